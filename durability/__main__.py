@@ -1,0 +1,5 @@
+import sys
+
+from durability.cli import main
+
+sys.exit(main())
