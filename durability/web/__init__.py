@@ -1,0 +1,1 @@
+"""Screens for the method catalogue and reference data (thin views)."""

@@ -1,0 +1,1 @@
+"""Everything tied to a customer or a lot: access-checked and audited."""

@@ -1,0 +1,77 @@
+"""Who may see which record. One helper per model; querysets filter by it.
+
+Lab staff (technician, engineer, reviewer, quality manager, administrator) see
+every lab record. A customer user sees only records of its own organisation.
+Anyone else, and anyone asking for an object outside their right, is an
+outsider and gets 404, so a URL never confirms that a record exists.
+"""
+
+from __future__ import annotations
+
+from django.core.exceptions import PermissionDenied
+from django.db.models import Q
+from django.http import Http404
+from django.shortcuts import get_object_or_404
+
+from labrecords.roles import Role, has_role, is_lab_staff
+
+_NOTHING = Q(pk__in=[])
+
+
+def customer_id_of(user) -> int | None:
+    """The organisation of a customer user, or None."""
+    if not has_role(user, Role.CUSTOMER):
+        return None
+    link = getattr(user, "customer_link", None)
+    return link.customer_id if link is not None else None
+
+
+def customer_filter(user, customer_field: str) -> Q:
+    """A filter on `customer_field` (a path to a Customer id) that keeps what `user` may see."""
+    if is_lab_staff(user):
+        return Q()
+    customer_id = customer_id_of(user)
+    if customer_id is None:
+        return _NOTHING
+    return Q(**{customer_field: customer_id})
+
+
+def require_role(user, *roles: Role) -> None:
+    """Refuse an action to a user who holds none of `roles` (403: the page itself is known)."""
+    if not has_role(user, *roles):
+        raise PermissionDenied("Your role does not allow this.")
+
+
+def lot_for_user(user, pk: int):
+    from labrecords.models import Lot
+
+    return get_object_or_404(Lot.objects.visible_to(user).for_listing(), pk=pk)
+
+
+def order_for_user(user, pk: int):
+    from labrecords.models import Order
+
+    return get_object_or_404(Order.objects.visible_to(user).select_related("customer"), pk=pk)
+
+
+def spec_for_user(user, pk: int):
+    from labrecords.models import CoatingSpec
+
+    return get_object_or_404(
+        CoatingSpec.objects.visible_to(user).select_related("order__customer", "glass"), pk=pk
+    )
+
+
+def piece_for_user(user, ident: str):
+    from labrecords.models import WitnessPiece
+
+    return get_object_or_404(
+        WitnessPiece.objects.visible_to(user).select_related("lot__order__customer", "glass"),
+        ident=ident,
+    )
+
+
+def lab_staff_only(user) -> None:
+    """Pages that exist only for the lab: an outsider or customer sees 404."""
+    if not is_lab_staff(user):
+        raise Http404

@@ -1,0 +1,57 @@
+from django.contrib.auth.decorators import login_required
+from django.contrib.auth.mixins import LoginRequiredMixin
+from django.shortcuts import render
+from django.views.decorators.http import require_safe
+from django_filters.views import FilterView
+from django_tables2 import SingleTableMixin
+
+from labrecords import selectors
+from labrecords.access import lot_for_user, piece_for_user, spec_for_user
+from labrecords.filters import LotFilter
+from labrecords.models import Lot
+from labrecords.tables import LotTable
+
+
+class HomeView(LoginRequiredMixin, SingleTableMixin, FilterView):
+    """The lots the user may see, with their stage."""
+
+    table_class = LotTable
+    filterset_class = LotFilter
+    template_name = "labrecords/home.html"
+    paginate_by = 50
+
+    def get_queryset(self):
+        return Lot.objects.visible_to(self.request.user).for_listing()
+
+    def get_filterset_kwargs(self, filterset_class):
+        kwargs = super().get_filterset_kwargs(filterset_class)
+        kwargs["user"] = self.request.user
+        return kwargs
+
+
+@require_safe
+@login_required
+def lot_detail(request, pk: int):
+    lot = lot_for_user(request.user, pk)
+    return render(request, "labrecords/lot_detail.html", {
+        "lot": lot,
+        "pieces": selectors.lot_pieces(lot),
+        "audit": selectors.audit_trail(lot),
+    })
+
+
+@require_safe
+@login_required
+def piece_detail(request, ident: str):
+    piece = piece_for_user(request.user, ident)
+    return render(request, "labrecords/piece_detail.html", {
+        "piece": piece,
+        "observations": selectors.piece_observations(piece),
+    })
+
+
+@require_safe
+@login_required
+def spec_detail(request, pk: int):
+    spec = spec_for_user(request.user, pk)
+    return render(request, "labrecords/spec_detail.html", {"spec": spec})
