@@ -446,7 +446,9 @@ def _no_listed_defects(rule: Mapping[str, object], out: StepOutcome, ctx: _Conte
         return _verdict(
             ctx,
             "fail",
-            "; ".join(parts) + f"; listed defect(s) under {ctx.clause}",
+            "; ".join(parts)
+            + f"; the listed defects ({', '.join(sorted(d.words for d in listed))}) may not "
+            f"appear or worsen, {ctx.clause}",
         )
     if out.inspection.no_defects_observed:
         return _verdict(ctx, "pass", f"no defects observed after exposure, {ctx.clause}")
@@ -521,10 +523,14 @@ def _crosshatch_max_share(rule: Mapping[str, object], out: StepOutcome, ctx: _Co
         words = f"detached share {share:g} % (class {observed})"
         if share <= accept + _TOLERANCE:
             return _verdict(ctx, "pass", f"{words} is within the {limit:g} % maximum, {ctx.clause}")
-        guard = f" less the guard band {w:g} %" if w else ""
-        return _verdict(
-            ctx, "fail", f"{words} exceeds the {limit:g} % maximum{guard}, {ctx.clause}"
-        )
+        if w:
+            words += (
+                f" exceeds the acceptance limit {accept:g} % (maximum {limit:g} % less guard "
+                f"band {w:g} %)"
+            )
+        else:
+            words += f" exceeds the {limit:g} % maximum"
+        return _verdict(ctx, "fail", f"{words}, {ctx.clause}")
     observed, _ = _observed_class(out, ctx)
     lower, upper, lower_in, _ = iso_class_share_range(observed, ctx.boundary)
     ctx.conventions.append(ctx.boundary.sentence)
@@ -612,13 +618,28 @@ def _spectral_limits(rule: Mapping[str, object], out: StepOutcome, ctx: _Context
             )
         value = _number(stat.value, f"spectral limit {index} ({what}), measured value")
         w = ctx.decision.guard(stat.expanded_uncertainty, f"spectral limit {index} ({what})")
-        guard = f" with guard band {w:g} %" if w else ""
         upper = limit.get("max")
         lower = limit.get("min")
         if upper is not None and value > float(upper) - w + _TOLERANCE:
-            failures.append(f"{what} is {value:g} %, above the maximum {float(upper):g} %{guard}")
+            guard = f" (maximum {float(upper):g} % less guard band {w:g} %)" if w else ""
+            failures.append(
+                f"{what} is {value:g} %, above the "
+                + (
+                    f"acceptance limit {float(upper) - w:g} %{guard}"
+                    if w
+                    else f"maximum {float(upper):g} %"
+                )
+            )
         elif lower is not None and value < float(lower) + w - _TOLERANCE:
-            failures.append(f"{what} is {value:g} %, below the minimum {float(lower):g} %{guard}")
+            guard = f" (minimum {float(lower):g} % plus guard band {w:g} %)" if w else ""
+            failures.append(
+                f"{what} is {value:g} %, below the "
+                + (
+                    f"acceptance limit {float(lower) + w:g} %{guard}"
+                    if w
+                    else f"minimum {float(lower):g} %"
+                )
+            )
         else:
             bounds = " and ".join(
                 text
@@ -628,6 +649,7 @@ def _spectral_limits(rule: Mapping[str, object], out: StepOutcome, ctx: _Context
                 )
                 if text
             )
+            guard = f" with guard band {w:g} %" if w else ""
             passes.append(f"{what} is {value:g} %, within {bounds}{guard}")
     if failures:
         return _verdict(ctx, "fail", "; ".join(failures) + f", {ctx.clause}")
