@@ -1,0 +1,1 @@
+"""Chamber evidence: data-logger import and exposure verification."""
