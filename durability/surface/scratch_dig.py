@@ -351,13 +351,13 @@ def evaluate_scratch_dig(
         dig_sum = _max_weight_in_circle(
             points, [d.diameter_mm for _, d in counted], CIRCLE_DIAMETER_MM / 2.0
         )
-        where = "in the worst 20 mm circle (from the dig positions)"
+        where = "in the worst 20 mm circle (found from the dig positions)"
         conventions.append(
             "dig positions are dig centres; a dig lies in a circle when its centre does"
         )
     else:
         dig_sum = sum((d.diameter_mm for _, d in counted), 0.0)
-        where = "in total, all digs taken to lie in one 20 mm circle"
+        where = "(all digs taken to lie in one 20 mm circle)"
         if counted:
             conventions.append(
                 "dig positions were not all given, so all digs are taken to lie in one 20 mm "
@@ -365,7 +365,7 @@ def evaluate_scratch_dig(
             )
     verb = "is within" if _le(dig_sum, dig_sum_limit) else "exceeds"
     sentence = (
-        f"Sum of dig diameters {where} is {_fmt(dig_sum)} mm and {verb} twice the maximum "
+        f"Sum of dig diameters {where}: {_fmt(dig_sum)} mm, which {verb} twice the maximum "
         f"dig diameter, {_fmt(dig_sum_limit)} mm"
     )
     (checks if verb == "is within" else failures).append(sentence + cite)
@@ -419,10 +419,9 @@ def evaluate_scratch_dig(
                     f"{len(max_size)} maximum-size dig(s), no two within one 20 mm circle{cite}"
                 )
         else:
-            verb = "is within" if len(max_size) <= 1 else "exceeds"
             sentence = (
-                f"{len(max_size)} maximum-size dig(s), taken to lie in one 20 mm circle; "
-                f"{verb} the one allowed in any 20 mm circle"
+                f"{len(max_size)} maximum-size dig(s), all taken to lie in one 20 mm circle; "
+                "at most one is allowed in any 20 mm circle"
             )
             (checks if len(max_size) <= 1 else failures).append(sentence + cite)
 
