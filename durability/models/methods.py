@@ -142,6 +142,9 @@ class MethodVersion(models.Model):
     hazards = models.JSONField(default=list, blank=True)
     note = models.TextField(blank=True)
     origin = models.CharField(max_length=10, default="seed", help_text="seed or lab")
+    seed_digest = models.CharField(
+        max_length=64, blank=True, help_text="SHA-256 of the seed entry this version came from"
+    )
     reason = models.TextField(blank=True, help_text="why this version was made")
     created_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.PROTECT, related_name="+"

@@ -19,6 +19,8 @@ DATA_DIR = env_path("DURABILITY_DATA_DIR", BASE_DIR / "data")
 
 SECRET_KEY = env_str("SECRET_KEY", "dev-only-key-not-for-production-" + "x" * 20)
 DEBUG = env_bool("DEBUG", False)
+# production.py sets this; commands that build invented data refuse to run then.
+IS_PRODUCTION = False
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS", ["127.0.0.1", "localhost"])
 
 INSTALLED_APPS = [

@@ -15,6 +15,7 @@ SECRET_KEY_FALLBACKS = env_list("SECRET_KEY_FALLBACKS", [])
 ALLOWED_HOSTS = env_list("ALLOWED_HOSTS")
 CSRF_TRUSTED_ORIGINS = env_list("CSRF_TRUSTED_ORIGINS", [f"https://{h}" for h in ALLOWED_HOSTS])
 DEBUG = False
+IS_PRODUCTION = True
 
 # Behind a TLS-terminating proxy that sets X-Forwarded-Proto.
 if env_bool("BEHIND_TLS_PROXY", True):
