@@ -231,7 +231,7 @@ class Acceptance:
 
     def rule_json(self) -> dict[str, object]:
         """Return a plain, mutable copy of the rule."""
-        return _plain(self.rule)
+        return dict(_plain(self.rule))
 
     def as_json(self) -> dict[str, object]:
         """Return the acceptance as in the seed JSON."""
@@ -596,7 +596,7 @@ def validate_rule(value: object, where: str = "rule") -> dict[str, object]:
         _text(body["text"], f"{where}: 'text'", required=True)
     elif name == "spectral_limits":
         _list(body["limits"], f"{where}: 'limits'")
-    return _plain(body)
+    return dict(_plain(body))
 
 
 # ------------------------------------------------------------------------------ helpers
