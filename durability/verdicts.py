@@ -187,7 +187,8 @@ class DecisionRule:
     ``"simple"``: simple acceptance, the value itself against the limit (equal passes).
     ``"guarded"``: guarded acceptance, the limit is tightened by a guard band w before comparing
     (a maximum becomes max - w, a minimum min + w); w is ``guard_band`` when given, otherwise the
-    measurement's expanded uncertainty.
+    measurement's expanded uncertainty. These are the simple and guarded acceptance rules of
+    ILAC-G8:2019 (recalled from memory).
     """
 
     kind: str = "simple"
