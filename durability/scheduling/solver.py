@@ -28,7 +28,7 @@ from collections import defaultdict
 from dataclasses import dataclass, field
 
 from durability.scheduling.bounds import Heads, heads_and_tails, lower_bound
-from durability.scheduling.calendar import Busy, from_minutes
+from durability.scheduling.calendar import Busy, LabCalendar, from_minutes
 from durability.scheduling.explain import late_reasons
 from durability.scheduling.model import Assignment, LotPromise, LowerBound, Schedule, Workload
 from durability.scheduling.prepare import NO_RESOURCE, Prepared, prepare
@@ -55,17 +55,21 @@ class SolverOptions:
     time_budget_s: float = 2.0
     max_passes: int = 60
     seed: int = 0
-    # Settings tried first: (hours of urgency within which a fuller run is preferred,
-    # hours a short run may wait for more pieces of its condition).
+    # Weight of an hour of a lot's lateness against an hour of makespan (priority 0 lots;
+    # each priority step above zero multiplies it by ten).
+    lateness_weight: float = 1.0
+    # Settings tried first: (hours of urgency within which a run using more of the
+    # chamber's capacity and time is preferred, hours ahead a run that is not full may
+    # look for more pieces of its condition when waiting for them uses the chamber better).
     settings: tuple[tuple[float, float], ...] = (
+        (24.0, 24.0),
+        (72.0, 24.0),
         (0.0, 0.0),
-        (8.0, 0.0),
         (24.0, 0.0),
-        (8.0, 4.0),
-        (24.0, 8.0),
         (72.0, 0.0),
-        (72.0, 8.0),
-        (0.0, 4.0),
+        (8.0, 8.0),
+        (72.0, 96.0),
+        (0.0, 24.0),
     )
 
 
@@ -77,6 +81,7 @@ class _Pass:
     run: list[int]
     runs: list[tuple[int, int, int]]  # (resource, start, end)
     score: tuple[float, ...] = ()
+    lateness: float = 0.0
     makespan: int = 0
     completion: list[int | None] = field(default_factory=list)
 
@@ -100,12 +105,25 @@ def schedule(workload: Workload, options: SolverOptions | None = None) -> Schedu
 def _search(
     p: Prepared, heads: Heads, target: int, options: SolverOptions, clock: float
 ) -> tuple[_Pass, int]:
-    due_eff = [target if due is None else due for due in p.lot_due]
     priority = [lot.priority for lot in p.lots]
-    base = [
-        -priority[p.lot[s]] * URGENCY_CLASS + due_eff[p.lot[s]] - (p.dur[s] + heads.tail[s])
-        for s in range(p.n)
-    ]
+
+    def urgencies(mode: int) -> list[float]:
+        # Mode 0: lots due after the makespan bound are planned as if due at it, so the
+        # makespan is not sacrificed to them; mode 1: due dates as given; mode 2: the
+        # remaining chain alone (lots without a due date are always planned for the bound).
+        if mode == 0:
+            due_eff = [target if due is None else min(due, target) for due in p.lot_due]
+        elif mode == 1:
+            due_eff = [target if due is None else due for due in p.lot_due]
+        else:
+            due_eff = [target] * len(p.lot_due)
+        return [
+            -priority[p.lot[s]] * URGENCY_CLASS + due_eff[p.lot[s]] - (p.dur[s] + heads.tail[s])
+            for s in range(p.n)
+        ]
+
+    bases = [urgencies(mode) for mode in range(3)]
+    base = bases[0]
     best: _Pass | None = None
     best_setting = options.settings[0]
     best_offsets = [0.0] * p.n
@@ -113,20 +131,21 @@ def _search(
     rng = random.Random(options.seed)
 
     def good_enough(candidate: _Pass) -> bool:
-        no_lateness = all(v == 0 for v in candidate.score[:-2])
+        no_lateness = candidate.lateness == 0
         return no_lateness and candidate.makespan <= target
 
     for setting in options.settings:
-        if passes >= options.max_passes:
-            break
-        if best is not None and time.perf_counter() - clock > options.time_budget_s:
-            break
-        candidate = _simulate(p, base, setting)
-        passes += 1
-        if best is None or candidate.score < best.score:
-            best, best_setting = candidate, setting
-        if good_enough(best):
-            return best, passes
+        for mode_base in bases:
+            if passes >= options.max_passes:
+                break
+            if best is not None and time.perf_counter() - clock > options.time_budget_s:
+                break
+            candidate = _simulate(p, heads.start, mode_base, setting, options.lateness_weight)
+            passes += 1
+            if best is None or candidate.score < best.score:
+                best, best_setting, base = candidate, setting, mode_base
+            if good_enough(best):
+                return best, passes
     assert best is not None
     movable = [s for s in range(p.n) if not p.is_fixed(s)]
     while (
@@ -142,7 +161,7 @@ def _search(
                 offsets[s] += rng.gauss(0.0, sigma)
         urgency = [base[s] + offsets[s] for s in range(p.n)]
         setting = best_setting if rng.random() < 0.7 else rng.choice(options.settings)
-        candidate = _simulate(p, urgency, setting)
+        candidate = _simulate(p, heads.start, urgency, setting, options.lateness_weight)
         passes += 1
         if candidate.score < best.score:
             best, best_setting, best_offsets = candidate, setting, offsets
@@ -151,7 +170,13 @@ def _search(
     return best, passes
 
 
-def _simulate(p: Prepared, urgency: list[float], setting: tuple[float, float]) -> _Pass:
+def _simulate(
+    p: Prepared,
+    heads_start: list[int],
+    urgency: list[float],
+    setting: tuple[float, float],
+    lateness_weight: float,
+) -> _Pass:
     """One forward pass of list scheduling with chamber batching."""
     prefer_full = setting[0] * 60.0
     fill_wait = round(setting[1] * 60)
@@ -212,7 +237,14 @@ def _simulate(p: Prepared, urgency: list[float], setting: tuple[float, float]) -
     chamber_steps = [any(p.is_chamber[r] for r in p.eligible[s]) for s in range(n)]
     bench_eligible = [[r for r in p.eligible[s] if not p.is_chamber[r]] for s in range(n)]
 
+    released = [False] * n
+    key_unplaced: dict[int, list[int]] = defaultdict(list)
+    for s in range(n):
+        if not placed[s] and chamber_steps[s]:
+            key_unplaced[p.batch_key[s]].append(s)
+
     def release_step(s: int) -> None:
+        released[s] = True
         t = max((end[q] for q in p.preds[s]), default=0) + p.wait[s]
         ready_at[s] = max(t, 0)
         heapq.heappush(release, (ready_at[s], s))
@@ -268,16 +300,23 @@ def _simulate(p: Prepared, urgency: list[float], setting: tuple[float, float]) -
         return True
 
     def load_chamber(r: int, t: int) -> None:
-        options: list[tuple[float, int, int]] = []
+        options: list[tuple[float, float, int]] = []
         for key in keys_for[r]:
             heap = key_heap.get(key)
             if not heap:
                 continue
-            clash = reservations[r].conflict(t, t + key_len[key])
+            length = key_len[key]
+            clash = reservations[r].conflict(t, t + length)
             if clash is not None:
                 wake(clash)
                 continue
-            options.append((heap[0][0], -min(len(heap), p.capacity[r]), key))
+            # Share of the chamber's capacity and time this run would use: a fuller run,
+            # and one ending when someone can reload the chamber, wastes less of it.
+            reload = cal.next_open(t + length)
+            idle = 0 if reload is None else reload - (t + length)
+            filled = min(len(heap), p.capacity[r]) / p.capacity[r]
+            use = filled * (length / (length + idle) if length + idle > 0 else 1.0)
+            options.append((heap[0][0], -use, key))
         if not options:
             return
         top = min(options)
@@ -286,11 +325,20 @@ def _simulate(p: Prepared, urgency: list[float], setting: tuple[float, float]) -
         key = chosen[2]
         heap = key_heap[key]
         if fill_wait and len(heap) < p.capacity[r]:
-            oldest = min(ready_at[s] for _, s in heap)
-            arrivals = [ready_at[s] for s in pending_by_key[key] if t < ready_at[s]]
-            soon = [a for a in arrivals if a <= oldest + fill_wait]
-            if soon:
-                wake(min(soon))
+            later = _later_start(
+                p,
+                cal,
+                reservations[r],
+                key_len[key],
+                len(heap),
+                t,
+                fill_wait,
+                _forecast(key_unplaced[key], placed, released, ready_at, heads_start, t),
+                -chosen[1],
+                p.capacity[r],
+            )
+            if later is not None:
+                wake(later)
                 return
         batch: list[int] = []
         aside: list[tuple[float, int]] = []
@@ -387,7 +435,62 @@ def _simulate(p: Prepared, urgency: list[float], setting: tuple[float, float]) -
         start_bench(t, window[1])
         # Something waiting for a piece held elsewhere is woken by that step's end.
 
-    return _score(p, _Pass(start, end, res, run_of, runs))
+    return _score(p, _Pass(start, end, res, run_of, runs), lateness_weight)
+
+
+def _forecast(
+    members: list[int],
+    placed: list[bool],
+    released: list[bool],
+    ready_at: list[int],
+    heads_start: list[int],
+    t: int,
+) -> list[int]:
+    """When the unplaced pieces of one condition may be ready after t: known for released
+    steps, the chain's earliest start for the others (their feeders are not planned yet)."""
+    out = []
+    for s in members:
+        if placed[s]:
+            continue
+        at = ready_at[s] if released[s] else heads_start[s]
+        if at > t:
+            out.append(at)
+    return out
+
+
+def _later_start(
+    p: Prepared,
+    cal: LabCalendar,
+    reserved: Busy,
+    length: int,
+    ready_now: int,
+    t: int,
+    lookahead: int,
+    arrivals: list[int],
+    use_now: float,
+    capacity: int,
+) -> int | None:
+    """A later loading moment worth waiting for, or None to load now.
+
+    Waiting pays when the run's share of chamber time used (fill x run length over
+    run length + idle before the next reload + the wait itself) beats loading now.
+    """
+    best_use, best_at = use_now, None
+    count = ready_now
+    for a in sorted(arrivals):
+        if a > t + lookahead or count >= capacity:
+            break
+        count += 1
+        at = cal.next_open(a)
+        if at is None or reserved.conflict(at, at + length) is not None:
+            continue
+        reload = cal.next_open(at + length)
+        idle = 0 if reload is None else reload - (at + length)
+        span = length + idle + (at - t)
+        use = min(count, capacity) / capacity * (length / span if span > 0 else 1.0)
+        if use > best_use + 1e-9:
+            best_use, best_at = use, at
+    return best_at
 
 
 def _drop_placed(heaps: dict, placed: list[bool]) -> None:  # type: ignore[type-arg]
@@ -397,27 +500,29 @@ def _drop_placed(heaps: dict, placed: list[bool]) -> None:  # type: ignore[type-
             heapq.heappop(heap)
 
 
-def _score(p: Prepared, result: _Pass) -> _Pass:
+def _score(p: Prepared, result: _Pass, lateness_weight: float) -> _Pass:
+    """Cost = makespan + weighted lateness of the lots, both in minutes.
+
+    A lot's lateness counts `lateness_weight` times, and ten times more for each
+    step of priority above zero (a rush lot's hour late weighs ten makespan hours
+    when the weight is 1).
+    """
     completion: list[int | None] = [None] * len(p.lots)
     for s in range(p.n):
         lot = p.lot[s]
         value = completion[lot]
         if value is None or result.end[s] > value:
             completion[lot] = result.end[s]
-    late_by_class: dict[int, float] = defaultdict(float)
+    lateness = 0.0
     for lot_i, lot in enumerate(p.lots):
         due = p.lot_due[lot_i]
         done = completion[lot_i]
         if due is not None and done is not None and done > due:
-            late_by_class[lot.priority] += done - due
-    classes = sorted({lot.priority for lot in p.lots}, reverse=True)
+            lateness += (done - due) * 10.0 ** min(max(lot.priority, 0), 6)
     makespan = max(max(result.end, default=0), 0)
     total_completion = float(sum(c for c in completion if c is not None))
-    result.score = (
-        *(late_by_class[c] for c in classes),
-        float(makespan),
-        total_completion,
-    )
+    result.score = (makespan + lateness_weight * lateness, float(makespan), total_completion)
+    result.lateness = lateness
     result.makespan = makespan
     result.completion = completion
     return result
