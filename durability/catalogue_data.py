@@ -459,7 +459,7 @@ def _method(item: object, where: str, designations: set[str]) -> CatalogueMethod
     if not isinstance(destructive, bool):
         raise InputError(f"{where}: field 'destructive': expected true or false")
     hazards = _hazards(body["hazards"], f"{where}: field 'hazards'")
-    parameters = _parameters(body["parameters"], f"{where}: field 'parameters'")
+    parameters = _parameters(body["parameters"], where)
     acceptance = _acceptance(body["acceptance"], f"{where}: field 'acceptance'")
     return CatalogueMethod(
         code=code,
@@ -490,12 +490,12 @@ def _hazards(value: object, where: str) -> tuple[str, ...]:
 
 
 def _parameters(value: object, where: str) -> tuple[Parameter, ...]:
-    body = _mapping(value, where)
+    body = _mapping(value, f"{where}: field 'parameters'")
     return tuple(_parameter(name, item, where) for name, item in body.items())
 
 
 def _parameter(name: str, item: object, where: str) -> Parameter:
-    here = f"{where}.{name}"
+    here = f"{where}: parameters.{name}"
     match = _PARAMETER_NAME.match(name)
     if match is None:
         raise InputError(
