@@ -40,6 +40,7 @@ $$ LANGUAGE plpgsql;
 def _pg_sql(table: str) -> list[str]:
     return [
         _PG_FUNCTION,
+        *_drop_sql("postgresql", table),
         f'CREATE TRIGGER "{table}_append_only" BEFORE UPDATE OR DELETE ON "{table}" '
         "FOR EACH ROW EXECUTE FUNCTION labrecords_refuse_change();",
         f'CREATE TRIGGER "{table}_no_truncate" BEFORE TRUNCATE ON "{table}" '
@@ -49,7 +50,7 @@ def _pg_sql(table: str) -> list[str]:
 
 def _sqlite_sql(table: str) -> list[str]:
     return [
-        f'CREATE TRIGGER "{table}_no_{op.lower()}" BEFORE {op} ON "{table}" '
+        f'CREATE TRIGGER IF NOT EXISTS "{table}_no_{op.lower()}" BEFORE {op} ON "{table}" '
         "WHEN NOT labrecords_maintenance() BEGIN "
         f"SELECT RAISE(ABORT, '{table} is append-only: {op} refused "
         "(a correction is a new revision)'); END;"
@@ -75,7 +76,12 @@ def create_sql(vendor: str, table: str) -> list[str]:
 
 
 def protect_tables(*tables: str) -> RunPython:
-    """A migration operation that makes the named tables append-only."""
+    """A migration operation that makes the named tables append-only.
+
+    Idempotent. On SQLite, Django rebuilds a table to alter it and the rebuild
+    drops its triggers: a migration that alters a protected table must end with
+    `protect_tables(...)` for it again (a test checks every protected table).
+    """
 
     def forwards(apps, schema_editor) -> None:
         vendor = schema_editor.connection.vendor

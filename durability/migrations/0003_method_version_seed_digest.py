@@ -2,6 +2,8 @@
 
 from django.db import migrations, models
 
+from labrecords.immutability import protect_tables
+
 
 class Migration(migrations.Migration):
 
@@ -15,4 +17,6 @@ class Migration(migrations.Migration):
             name='seed_digest',
             field=models.CharField(blank=True, help_text='SHA-256 of the seed entry this version came from', max_length=64),
         ),
+        # SQLite rebuilt the table to add the field, dropping its triggers.
+        protect_tables("durability_methodversion"),
     ]

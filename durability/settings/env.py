@@ -109,9 +109,10 @@ def database_from_url(url: str, *, name: str = "DATABASE_URL") -> dict[str, obje
             "CONN_HEALTH_CHECKS": True,
         }
     if scheme == "sqlite":
-        path = unquote(parts.path)
+        # sqlite:////abs/path.sqlite3 is absolute, sqlite:///rel.sqlite3 relative.
+        path = unquote(parts.path)[1:]
         if parts.netloc:
-            raise ImproperlyConfigured(f"{name}: write sqlite:///absolute/path, got {url!r}")
+            raise ImproperlyConfigured(f"{name}: write sqlite:////absolute/path, got {url!r}")
         if not path or path == "/":
             raise ImproperlyConfigured(f"{name} names no SQLite file: {url!r}")
         return {"ENGINE": "django.db.backends.sqlite3", "NAME": path, "OPTIONS": dict(SQLITE_OPTIONS)}
