@@ -142,6 +142,10 @@ def test_ranking_refuses_bad_input_naming_the_item():
 
 
 # --- allocation ------------------------------------------------------------------------------
+# No published source: the allocation follows the ranking (witness matched to the substrate as
+# closely as possible, test-methods.md Facts of the trade, common practice) and the stated
+# convention of one glass per lot unless mixing is allowed (common practice). The expected
+# takes below are counted by hand.
 
 
 def test_it_takes_all_pieces_from_the_best_glass_that_covers_the_need():
