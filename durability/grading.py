@@ -343,6 +343,9 @@ class Inspection:
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "observations", tuple(self.observations))
+        for index, obs in enumerate(self.observations, start=1):
+            if not isinstance(obs, Observation):
+                raise InputError(f"inspection, observation {index}: expected an Observation")
         if self.no_defects_observed and self.observations:
             raise InputError(
                 "inspection states 'no defects observed' but also lists "

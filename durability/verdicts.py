@@ -47,7 +47,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
-from datetime import date
+from datetime import date, datetime
 from typing import Literal
 
 from durability.errors import InputError
@@ -377,24 +377,41 @@ def check_acceptance_rule(rule: object) -> str:
 # ---------------------------------------------------------------- validity
 
 
+def _day(value: object, what: str) -> date:
+    # A datetime is a date subclass but cannot be compared with a date: reduce it to its day.
+    if isinstance(value, datetime):
+        return value.date()
+    if not isinstance(value, date):
+        raise InputError(f"{what}: expected a date, got {value!r}")
+    return value
+
+
 def validity_problems(facts: ValidityFacts) -> list[str]:
-    """Return the reasons the test does not count (empty when it counts)."""
+    """Return the reasons the test does not count (empty when it counts).
+
+    Dates are compared by calendar day; a datetime is reduced to its date, so pass local dates.
+    """
     problems: list[str] = []
+    test_day = _day(facts.test_date, "test date")
     if facts.exposure_counts is False:
         note = f": {facts.exposure_note}" if facts.exposure_note.strip() else ""
         problems.append(f"the exposure does not count{note}")
     for inst in facts.instruments:
-        if facts.test_date > inst.calibration_due:
+        due = _day(inst.calibration_due, f"instrument {inst.name}: calibration due date")
+        if test_day > due:
             problems.append(
-                f"instrument {inst.name} was out of calibration on {facts.test_date.isoformat()} "
-                f"(calibration due {inst.calibration_due.isoformat()})"
+                f"instrument {inst.name} was out of calibration on {test_day.isoformat()} "
+                f"(calibration due {due.isoformat()})"
             )
     for item in facts.consumables:
-        if item.expiry is not None and facts.test_date > item.expiry:
+        if item.expiry is None:
+            continue
+        expiry = _day(item.expiry, f"consumable {item.name}: expiry date")
+        if test_day > expiry:
             lot = f" lot {item.lot}" if item.lot else ""
             problems.append(
                 f"consumable {item.name}{lot} was past its expiry on "
-                f"{facts.test_date.isoformat()} (expired after {item.expiry.isoformat()})"
+                f"{test_day.isoformat()} (expired after {expiry.isoformat()})"
             )
     return problems
 
@@ -414,8 +431,12 @@ def _verdict(ctx: _Context, outcome: Outcome, reason: str, *more: str) -> Verdic
 def _no_coating_removed(rule: Mapping[str, object], out: StepOutcome, ctx: _Context) -> Verdict:
     if out.coating_removed is None:
         raise InputError("tape adhesion result: say whether coating was removed (coating_removed)")
+    if not isinstance(out.coating_removed, bool):
+        raise InputError(
+            f"tape adhesion result: coating_removed {out.coating_removed!r} is not yes/no"
+        )
     if out.coating_removed:
-        where = out.removal_location.strip()
+        where = str(out.removal_location or "").strip()
         if not where:
             raise InputError(
                 "tape adhesion result: coating was removed; say where (removal_location)"
@@ -672,6 +693,8 @@ def _engineer_judgement(rule: Mapping[str, object], out: StepOutcome, ctx: _Cont
     judgement = out.judgement
     if judgement is None:
         raise InputError("engineer judgement: missing (judgement)")
+    if not isinstance(judgement.person, str) or not isinstance(judgement.reason, str):
+        raise InputError("engineer judgement: person and reason must be text")
     if judgement.outcome not in ("pass", "fail"):
         raise InputError(
             f"engineer judgement: outcome {judgement.outcome!r} must be 'pass' or 'fail'"

@@ -220,7 +220,8 @@ def _check_digs(digs: Sequence[Dig]) -> None:
         if dig.position_mm is not None:
             pos = dig.position_mm
             if (
-                len(pos) != 2
+                not isinstance(pos, tuple | list)
+                or len(pos) != 2
                 or any(isinstance(v, bool) or not isinstance(v, int | float) for v in pos)
                 or not all(math.isfinite(float(v)) for v in pos)
             ):
