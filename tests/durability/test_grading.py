@@ -254,3 +254,8 @@ def test_an_inspection_after_exposure_must_record_something():
 def test_an_inspection_compared_with_itself_shows_no_change(items):
     inspection = Inspection(tuple(Observation(d, quantity=q, size=s) for d, q, s in items))
     assert not compare_inspections(inspection, inspection).changed
+
+
+def test_an_inspection_refuses_items_that_are_not_observations():
+    with pytest.raises(InputError, match="observation 2"):
+        Inspection((Observation(DefectType.HAZE), "haze"))  # type: ignore[arg-type]

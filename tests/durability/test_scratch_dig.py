@@ -291,3 +291,8 @@ def test_the_scratch_sum_depends_only_on_length_over_diameter(d, scratches, k):
     base = evaluate_scratch_dig("60-40", surface(d, scratches))
     scaled = evaluate_scratch_dig("60-40", surface(d * k, [(n, x * k) for n, x in scratches]))
     assert scaled.scratch_sum == pytest.approx(base.scratch_sum)
+
+
+def test_a_position_that_is_not_a_pair_is_refused():
+    with pytest.raises(InputError, match="dig 1: position 5"):
+        evaluate_scratch_dig("60-40", surface(digs=[Dig(0.1, position_mm=5)]))  # type: ignore[arg-type]

@@ -431,3 +431,22 @@ def test_the_verdict_has_a_json_form():
     assert data["outcome"] == "pass"
     assert data["clause"] == "tape adhesion (no coating removed)"
     assert isinstance(data["conventions"], list)
+
+
+def test_a_datetime_test_date_is_taken_as_its_day_and_a_non_date_is_refused():
+    from datetime import datetime
+
+    on_due_day = ValidityFacts(
+        test_date=datetime(2025, 3, 10, 16, 30),
+        instruments=(InstrumentUse("S1", TEST_DAY),),
+    )
+    assert step_verdict(TAPE, StepOutcome(coating_removed=False), on_due_day).outcome == "pass"
+    with pytest.raises(InputError, match="test date: expected a date"):
+        validity_problems(ValidityFacts(test_date="2025-03-10"))  # type: ignore[arg-type]
+    with pytest.raises(InputError, match="instrument S1: calibration due date"):
+        validity_problems(facts(instruments=(InstrumentUse("S1", None),)))  # type: ignore[arg-type]
+
+
+def test_a_removal_answer_must_be_yes_or_no():
+    with pytest.raises(InputError, match="is not yes/no"):
+        step_verdict(TAPE, StepOutcome(coating_removed="no"), None)  # type: ignore[arg-type]
