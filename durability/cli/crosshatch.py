@@ -8,7 +8,7 @@ import math
 from durability.errors import InputError
 from durability.grading import BoundaryConvention, crosshatch_grade
 
-HELP = "ISO 2409 and ASTM D3359 (method B) crosshatch classes for a share of lattice detached (%)."
+HELP = "ISO 2409 and ASTM D3359 (method B) crosshatch classes for a detached share in percent."
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:

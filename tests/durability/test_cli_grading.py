@@ -192,3 +192,13 @@ def test_surface_bad_input_names_the_field_or_item(capsys):
     )
     assert code == 2
     assert "--imperfection item 2" in err
+
+
+@pytest.mark.parametrize("command", ["crosshatch", "scratch-dig", "surface"])
+def test_the_help_texts_print(capsys, command):
+    # argparse expands % in help strings; a stray % would crash --help.
+    for argv in (["--help"], [command, "--help"]):
+        with pytest.raises(SystemExit) as stop:
+            main(argv)
+        assert stop.value.code == 0
+    assert command in capsys.readouterr().out
