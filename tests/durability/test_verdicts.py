@@ -450,3 +450,11 @@ def test_a_datetime_test_date_is_taken_as_its_day_and_a_non_date_is_refused():
 def test_a_removal_answer_must_be_yes_or_no():
     with pytest.raises(InputError, match="is not yes/no"):
         step_verdict(TAPE, StepOutcome(coating_removed="no"), None)  # type: ignore[arg-type]
+
+
+def test_a_frozen_rule_with_tuples_is_read_like_json():
+    from types import MappingProxyType
+
+    limit = MappingProxyType({**AR_LIMIT["limits"][0], "band_nm": (400, 700)})
+    frozen = MappingProxyType({"rule": "spectral_limits", "limits": (limit,)})
+    assert step_verdict(frozen, measured(0.4), None).outcome == "pass"
