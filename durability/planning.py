@@ -774,6 +774,14 @@ class _Planner:
         )
         if not sequences:
             self._review(None, "no durability test could be planned from these requirements")
+        judged = {x["requirement"] for q in sequences for st in q.steps for x in st.surface_limits}
+        for limit in self.surface:
+            if limit["requirement"] not in judged:
+                self._review(
+                    limit["requirement"],
+                    f"surface limit {limit['text']} has no piece to be judged on (no sequence, "
+                    "or only crosshatch pieces): plan an inspection by hand",
+                )
         if sequences and not self.options.spectral_limits:
             self._review(
                 None,
