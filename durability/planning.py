@@ -129,6 +129,13 @@ class Requirement:
     needs_review: bool = False
     text: str = ""
 
+    def __post_init__(self) -> None:
+        if self.kind not in REQUIREMENT_KINDS:
+            raise InputError(
+                f"requirement: field 'kind': {self.kind!r} is not one of "
+                f"{', '.join(REQUIREMENT_KINDS)}"
+            )
+
     @classmethod
     def from_any(cls, item: object, index: int = 0) -> Requirement:
         """Build a Requirement from a dict or any object with the same attribute names.
@@ -1073,7 +1080,7 @@ def _resolve_standard(text: str) -> tuple[str, str | None]:
     cleaned = " ".join(text.split())
     match = _APPENDIX.match(cleaned.upper())
     if match:
-        designation = cleaned[: len(match.group("designation"))].strip()
+        designation = cleaned[: len(match.group("designation"))].rstrip(" ,;")
         return designation, f"Appendix {match.group('letter')}"
     return cleaned, None
 

@@ -396,6 +396,16 @@ def test_appendix_c_maps_to_its_mil_c_675c_equivalents(catalogue: Catalogue) -> 
     assert first.method_code == "MIL-PRF-13830B:C-quarter_wave_check"
 
 
+@pytest.mark.parametrize(
+    "written", ["MIL-PRF-13830B App. C", "MIL-PRF-13830B, Appendix C", "mil-prf-13830b app c"]
+)
+def test_appendix_c_is_read_as_written_on_drawings(catalogue: Catalogue, written: str) -> None:
+    plan = plan_sequences(
+        [{"kind": "coating_spec", "standard": written, "tests": ["adhesion"]}], catalogue
+    )
+    assert codes_in(plan.sequences[0]) == ["MIL-PRF-13830B:C-adhesion"]
+
+
 def test_appendix_c_without_tests_plans_all_and_asks(catalogue: Catalogue) -> None:
     plan = plan_sequences(
         [{"kind": "coating_spec", "standard": "MIL-PRF-13830B Appendix C"}], catalogue
@@ -493,6 +503,8 @@ def test_a_bad_requirement_is_refused_naming_its_index_and_field(catalogue: Cata
         plan_sequences([{"kind": "crosshatch_limit", "limit": [1]}], catalogue)
     with pytest.raises(InputError, match="expected a list"):
         plan_sequences({"kind": "unknown"}, catalogue)
+    with pytest.raises(InputError, match="requirement: field 'kind'"):
+        Requirement(kind="wish")
 
 
 def test_the_parsers_objects_are_accepted(catalogue: Catalogue) -> None:
