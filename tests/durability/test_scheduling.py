@@ -74,7 +74,12 @@ def workload(
     lots: list[dict[str, Any]] | None = None,
     holidays: list[str] | None = None,
 ) -> dict[str, Any]:
-    data: dict[str, Any] = {"start": start, "lab_hours": LAB, "resources": resources, "steps": steps}
+    data: dict[str, Any] = {
+        "start": start,
+        "lab_hours": LAB,
+        "resources": resources,
+        "steps": steps,
+    }
     if lots is not None:
         data["lots"] = lots
     if holidays is not None:
@@ -223,10 +228,7 @@ def test_a_rush_lot_goes_first() -> None:
     # (priority 1) takes 08:00-09:00, the normal lot's three follow 09:00-12:00.
     data = workload(
         [bench("SPEC-1", ["spectral_measurement"])],
-        [
-            step(f"n{i}", "spectral_measurement", 1, piece=f"N{i}", lot="NORMAL")
-            for i in range(1, 4)
-        ]
+        [step(f"n{i}", "spectral_measurement", 1, piece=f"N{i}", lot="NORMAL") for i in range(1, 4)]
         + [step("r", "spectral_measurement", 1, piece="R1", lot="RUSH")],
         lots=[
             {"id": "NORMAL", "due": None, "priority": 0},
@@ -245,10 +247,7 @@ def test_a_rush_lot_due_early_is_met_and_a_late_lot_gets_a_reason() -> None:
     # reason names the spectrophotometer it waited for.
     data = workload(
         [bench("SPEC-1", ["spectral_measurement"])],
-        [
-            step(f"n{i}", "spectral_measurement", 1, piece=f"N{i}", lot="NORMAL")
-            for i in range(1, 4)
-        ]
+        [step(f"n{i}", "spectral_measurement", 1, piece=f"N{i}", lot="NORMAL") for i in range(1, 4)]
         + [step("r", "spectral_measurement", 1, piece="R1", lot="RUSH")],
         lots=[
             {"id": "NORMAL", "due": "2026-03-02T10:00", "priority": 0},
@@ -376,7 +375,11 @@ BAD_CASES = [
         lambda d: d.update(start="2026-03-02T08:00+01:00"),
         r"start.*offset",
     ),
-    ("negative hours", lambda d: d["steps"][0].update(hours=-1), r"steps\[0\].*hours.*zero or more"),
+    (
+        "negative hours",
+        lambda d: d["steps"][0].update(hours=-1),
+        r"steps\[0\].*hours.*zero or more",
+    ),
     (
         "negative wait",
         lambda d: d["steps"][1].update(wait_hours=-2),
@@ -487,7 +490,13 @@ def test_the_command_names_the_line_of_broken_json(tmp_path: Any) -> None:
 def test_the_example_fixture_schedules(tmp_path: Any) -> None:
     # fixtures/workloads/README.md works this example by hand; see there.
     done = subprocess.run(
-        [sys.executable, "-m", "durability", "schedule", "fixtures/workloads/humidity_then_tape.json"],
+        [
+            sys.executable,
+            "-m",
+            "durability",
+            "schedule",
+            "fixtures/workloads/humidity_then_tape.json",
+        ],
         cwd="/work/main",
         capture_output=True,
         text=True,
