@@ -144,3 +144,93 @@ def protected_tables(using: str = DEFAULT_DB_ALIAS) -> Sequence[str]:
                 "WHERE type = 'trigger' AND name LIKE '%_no_update'"
             )
         return sorted(row[0] for row in cursor.fetchall())
+
+
+# Released test plans: the plan row and every row under it are frozen once the
+# plan is released. Drafts stay editable; releasing is the last change a plan
+# row accepts.
+_PLAN_TABLE = "labrecords_testplan"
+PLAN_CHILD_TABLES = ("labrecords_plansequence", "labrecords_planstep", "labrecords_sequencepiece")
+
+_PG_PLAN_FUNCTION = """
+CREATE OR REPLACE FUNCTION labrecords_refuse_released_plan_change() RETURNS trigger AS $$
+DECLARE
+    plan_status text;
+BEGIN
+    IF current_setting('labrecords.maintenance', true) = 'on' THEN
+        IF TG_OP = 'DELETE' THEN RETURN OLD; END IF;
+        RETURN NEW;
+    END IF;
+    IF TG_TABLE_NAME = 'labrecords_testplan' THEN
+        plan_status := OLD.status;
+    ELSIF TG_OP = 'INSERT' THEN
+        SELECT status INTO plan_status FROM labrecords_testplan WHERE id = NEW.plan_id;
+    ELSE
+        SELECT status INTO plan_status FROM labrecords_testplan WHERE id = OLD.plan_id;
+    END IF;
+    IF plan_status = 'released' THEN
+        RAISE EXCEPTION '% belongs to a released test plan: % refused (make a new plan revision)',
+            TG_TABLE_NAME, TG_OP USING ERRCODE = 'integrity_constraint_violation';
+    END IF;
+    IF TG_OP = 'DELETE' THEN RETURN OLD; END IF;
+    RETURN NEW;
+END
+$$ LANGUAGE plpgsql;
+"""
+
+
+def _plan_sql(vendor: str) -> list[str]:
+    statements: list[str] = []
+    if vendor == "postgresql":
+        statements.append(_PG_PLAN_FUNCTION)
+        for table in (_PLAN_TABLE, *PLAN_CHILD_TABLES):
+            ops = "UPDATE OR DELETE" if table == _PLAN_TABLE else "INSERT OR UPDATE OR DELETE"
+            statements += [
+                f'DROP TRIGGER IF EXISTS "{table}_frozen" ON "{table}";',
+                f'CREATE TRIGGER "{table}_frozen" BEFORE {ops} ON "{table}" FOR EACH ROW '
+                "EXECUTE FUNCTION labrecords_refuse_released_plan_change();",
+            ]
+        return statements
+    if vendor != "sqlite":
+        raise NotImplementedError(f"No plan triggers written for the {vendor} database.")
+    message = "belongs to a released test plan: {op} refused (make a new plan revision)"
+    for op in ("UPDATE", "DELETE"):
+        statements.append(
+            f'CREATE TRIGGER IF NOT EXISTS "{_PLAN_TABLE}_frozen_{op.lower()}" BEFORE {op} '
+            f'ON "{_PLAN_TABLE}" WHEN OLD.status = \'released\' AND NOT labrecords_maintenance() '
+            f"BEGIN SELECT RAISE(ABORT, '{_PLAN_TABLE} {message.format(op=op)}'); END;"
+        )
+    for table in PLAN_CHILD_TABLES:
+        for op, row in (("INSERT", "NEW"), ("UPDATE", "OLD"), ("DELETE", "OLD")):
+            statements.append(
+                f'CREATE TRIGGER IF NOT EXISTS "{table}_frozen_{op.lower()}" BEFORE {op} '
+                f'ON "{table}" WHEN (SELECT status FROM "{_PLAN_TABLE}" WHERE id = {row}.plan_id)'
+                " = 'released' AND NOT labrecords_maintenance() "
+                f"BEGIN SELECT RAISE(ABORT, '{table} {message.format(op=op)}'); END;"
+            )
+    return statements
+
+
+def _plan_drop_sql(vendor: str) -> list[str]:
+    tables = (_PLAN_TABLE, *PLAN_CHILD_TABLES)
+    if vendor == "postgresql":
+        return [f'DROP TRIGGER IF EXISTS "{t}_frozen" ON "{t}";' for t in tables]
+    return [
+        f'DROP TRIGGER IF EXISTS "{t}_frozen_{op}";'
+        for t in tables
+        for op in ("insert", "update", "delete")
+    ]
+
+
+def freeze_released_plans() -> RunPython:
+    """A migration operation: released plans and their rows refuse every change."""
+
+    def forwards(apps, schema_editor) -> None:
+        for statement in _plan_sql(schema_editor.connection.vendor):
+            schema_editor.execute(statement, params=None)
+
+    def backwards(apps, schema_editor) -> None:
+        for statement in _plan_drop_sql(schema_editor.connection.vendor):
+            schema_editor.execute(statement, params=None)
+
+    return RunPython(forwards, backwards, elidable=False)

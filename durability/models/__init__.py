@@ -6,6 +6,13 @@ from durability.models.methods import (
     Standard,
     StandardStatus,
 )
+from durability.models.resources import (
+    CalendarKind,
+    LabHoliday,
+    LabHours,
+    Resource,
+    ResourceBlock,
+)
 from durability.models.reference import (
     Coater,
     CoatingDesign,
@@ -16,6 +23,11 @@ from durability.models.reference import (
 )
 
 __all__ = [
+    "CalendarKind",
+    "LabHoliday",
+    "LabHours",
+    "Resource",
+    "ResourceBlock",
     "Coater",
     "CoatingDesign",
     "CoatingType",
