@@ -530,7 +530,7 @@ class _Planner:
         self.spectral_candidates.extend(m for m in candidates if m.kind == "spectral_measurement")
         keys = list(req.tests)
         if not keys:
-            keys = self._default_keys(req, i, designation, testable)
+            keys = self._default_keys(req, i, testable)
         for key in keys:
             if key not in TEST_KEYS:
                 self._review(i, f"{req.label(i)}: test {key!r} is not a known test name")
@@ -543,9 +543,7 @@ class _Planner:
                 continue
             self._add_test(matches[0], i, "", "")
 
-    def _default_keys(
-        self, req: Requirement, i: int, designation: str, testable: list[CatalogueMethod]
-    ) -> list[str]:
+    def _default_keys(self, req: Requirement, i: int, testable: list[CatalogueMethod]) -> list[str]:
         groups = {m.group for m in testable}
         if groups == {""}:
             self.assumptions.append(
