@@ -132,20 +132,37 @@ def _read_with(lines: Sequence[str], dialect: _Dialect) -> tuple[_Reading | None
     first = numeric[start]
     assert first is not None
     width = len(first)
+    # Header lines just before the data that start with a number: a lone count is
+    # header, but a row of the data's width with a bad field, or a broken line among
+    # rows of numbers, means the data were interrupted.
+    block: list[int] = []
     for index in range(start - 1, -1, -1):
-        line = lines[index]
-        if not line.strip():
+        if not lines[index].strip():
             continue
-        fields = _fields(line, dialect)
-        if fields and _number(fields[0], dialect) is not None and len(fields) == width:
+        fields = _fields(lines[index], dialect)
+        if not fields or _number(fields[0], dialect) is None:
+            break
+        block.append(index)
+    block.reverse()
+    full_rows = [i for i in block if numeric[i] is not None]
+    if full_rows:
+        broken = next(i for i in block if i > full_rows[0] and numeric[i] is None)
+        return (
+            None,
+            seen,
+            f"line {broken + 1}: {lines[broken].strip()!r} breaks the rows of numbers that "
+            f"start at line {full_rows[0] + 1} ({dialect.describe()})",
+        )
+    for index in block:
+        fields = _fields(lines[index], dialect)
+        if len(fields) == width:
             bad = next((f for f in fields if _number(f, dialect) is None), fields[0])
             return (
                 None,
                 seen,
-                f"line {index + 1}: {line.strip()!r} looks like a data row but {bad!r} is "
-                "not a number",
+                f"line {index + 1}: {lines[index].strip()!r} looks like a data row but "
+                f"{bad!r} is not a number",
             )
-        break
     rows: list[tuple[int, list[float]]] = []
     for index in range(start, len(lines)):
         line = lines[index]
