@@ -43,6 +43,8 @@ _ONE_FOR_ONE = {
     "\u200d": " ",
     "\u2060": " ",
     "\ufeff": " ",
+    # full-width ASCII forms (U+FF01..U+FF5E) typed with an East Asian input method
+    **{chr(code): chr(code - 0xFEE0) for code in range(0xFF01, 0xFF5F)},
 }
 
 
