@@ -346,6 +346,7 @@ class Excursion:
             "start": self.start.isoformat(),
             "end": self.end.isoformat(),
             "duration_hours": round(self.duration_hours, 6),
+            "duration_minutes": round(self.duration_hours * 60, 4),
             "causes": list(self.causes),
             "direction": self.direction,
             "worst": [value.as_dict() for value in self.worst],
