@@ -38,6 +38,7 @@ from durability.catalogue_data import (
 )
 from durability.errors import InputError
 from durability.grading import astm_to_iso, iso_to_astm
+from durability.verdicts import check_acceptance_rule
 
 __all__ = [
     "CHAMBER_HAZARDS",
@@ -256,6 +257,14 @@ class PlanOptions:
         for i, limit in enumerate(self.spectral_limits):
             if not isinstance(limit, Mapping):
                 raise InputError(f"options: field 'spectral_limits'[{i}]: expected an object")
+        if self.spectral_limits:
+            # The verdict code owns the limit format; refuse here what it would refuse later.
+            try:
+                check_acceptance_rule(
+                    {"rule": "spectral_limits", "limits": [dict(x) for x in self.spectral_limits]}
+                )
+            except InputError as exc:
+                raise InputError(f"options: field 'spectral_limits': {exc}") from None
         object.__setattr__(self, "lab_order", tuple(self.lab_order))
         object.__setattr__(self, "spectral_limits", tuple(self.spectral_limits))
 
@@ -299,9 +308,11 @@ class PlannedStep:
     ``role`` is initial_inspection, initial_spectral, test, inspection, final_inspection or
     final_spectral. ``parameters`` maps a name to {value, unit, status, placeholder, note}, as
     in the catalogue, for the step's degree of severity. ``acceptance`` is {text, rule,
-    status}; ``rule`` uses the shared acceptance-rule vocabulary. ``wait_hours_before`` is the
-    least time between the end of the previous step (or, for the first step, the end of
-    coating) and the start of this one, with ``wait_reason``. ``sources`` are the indexes of
+    status}; ``rule`` uses the acceptance-rule vocabulary of :mod:`durability.verdicts` (a final
+    inspection with one surface limit uses its ``scratch_dig`` or ``iso10110_7`` rule; a
+    spectral step without limits records only). ``wait_hours_before`` is the least time
+    between the end of the previous step (or, for the first step, the end of coating) and the
+    start of this one, with ``wait_reason``. ``sources`` are the indexes of
     the requirements that asked for the step; ``surface_limits`` the scratch-dig or ISO 10110-7
     limits judged at a final inspection.
     """
@@ -490,13 +501,21 @@ class _Planner:
         standard = req.standard or (
             "MIL-PRF-13830B" if req.kind == "scratch_dig" else "ISO 10110-7"
         )
-        shown = str(req.limit.get("normal") or req.text or req.limit)
+        spec = str(req.limit.get("normal") or req.text or "")
+        shown = spec or str(dict(req.limit))
+        # The verdict code evaluates a surface limit from its written form (rule name = kind).
+        rule: dict[str, Any] = (
+            {"rule": req.kind, "spec": spec}
+            if spec
+            else {"rule": "engineer_judgement", "text": f"Judge against {shown}."}
+        )
         self.surface.append(
             {
                 "kind": req.kind,
                 "standard": standard,
                 "limit": dict(req.limit),
                 "text": shown,
+                "rule": rule,
                 "requirement": i,
             }
         )
@@ -920,13 +939,20 @@ class _Planner:
             )
         elif self.surface:
             shown = "; ".join(f"{s['text']} ({s['standard']})" for s in self.surface)
+            # One limit: its own rule, so the verdict is computed. Several: one step can hold
+            # one rule, so the engineer judges, with each limit's rule in surface_limits.
+            rule = (
+                dict(self.surface[0]["rule"])
+                if len(self.surface) == 1
+                else {
+                    "rule": "engineer_judgement",
+                    "text": f"Evaluate surface imperfections against each of {shown}, using "
+                    "each limit's rule in surface_limits.",
+                }
+            )
             acceptance = {
                 "text": f"Surface imperfections within {shown}.",
-                "rule": {
-                    "rule": "engineer_judgement",
-                    "text": f"Evaluate surface imperfections against {shown} with the surface "
-                    "rules.",
-                },
+                "rule": rule,
                 "status": "public_summary",
             }
             limits = tuple(self.surface)
@@ -958,6 +984,13 @@ class _Planner:
 
     def _spectral_acceptance(self, spectral: CatalogueMethod) -> dict[str, Any]:
         acceptance = spectral.acceptance.as_json()
+        if not self.options.spectral_limits:
+            # Nothing to check against yet: record the spectrum; a review item asks for limits.
+            return {
+                "text": "Recorded only until the coating spec's spectral limits are entered.",
+                "rule": {"rule": "recorded_only"},
+                "status": acceptance["status"],
+            }
         acceptance["rule"] = {
             "rule": "spectral_limits",
             "limits": [dict(x) for x in self.options.spectral_limits],

@@ -31,6 +31,7 @@ from durability.catalogue_data import (
 )
 from durability.errors import InputError
 from durability.grading import DefectType
+from durability.verdicts import check_acceptance_rule
 
 SEED = Path(__file__).resolve().parents[2] / "fixtures" / "catalogue" / "methods.json"
 
@@ -519,3 +520,12 @@ def test_validate_rule_returns_a_plain_copy() -> None:
     assert copy_ == rule and copy_ is not rule
     with pytest.raises(InputError, match="missing 'rule'"):
         validate_rule({"defects": []})
+
+
+def test_every_catalogue_rule_is_one_the_verdict_code_accepts(catalogue: Catalogue) -> None:
+    for method in catalogue.methods:
+        rule = method.acceptance.rule_json()
+        if rule == {"rule": "spectral_limits", "limits": []}:
+            # the planner fills the limits from the coating spec, or records only
+            continue
+        assert check_acceptance_rule(rule) == rule["rule"], method.code

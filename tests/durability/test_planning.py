@@ -23,7 +23,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from durability.catalogue_data import Catalogue, load_catalogue, parse_catalogue, validate_rule
+from durability.catalogue_data import Catalogue, load_catalogue, parse_catalogue
 from durability.errors import InputError
 from durability.planning import (
     DEFAULT_LAB_ORDER,
@@ -35,6 +35,7 @@ from durability.planning import (
     Requirement,
     plan_sequences,
 )
+from durability.verdicts import check_acceptance_rule
 
 SEED = Path(__file__).resolve().parents[2] / "fixtures" / "catalogue" / "methods.json"
 
@@ -190,8 +191,21 @@ def test_the_final_inspection_carries_the_surface_limits(catalogue: Catalogue) -
     (last,) = final
     assert [x["kind"] for x in last.surface_limits] == ["scratch_dig", "iso10110_7"]
     assert "60-40" in last.acceptance["text"] and "5/3x0.16" in last.acceptance["text"]
-    # the rule stays inside the shared vocabulary
-    validate_rule(last.acceptance["rule"])
+    # two limits: the engineer judges, each limit carries the rule the verdict code evaluates
+    assert last.acceptance["rule"]["rule"] == "engineer_judgement"
+    assert [x["rule"] for x in last.surface_limits] == [
+        {"rule": "scratch_dig", "spec": "60-40"},
+        {"rule": "iso10110_7", "spec": "5/3x0.16"},
+    ]
+    for limit in last.surface_limits:
+        check_acceptance_rule(limit["rule"])
+
+
+def test_one_surface_limit_becomes_the_final_inspections_rule(catalogue: Catalogue) -> None:
+    plan = plan_sequences([*MIL_BASIC, SCRATCH_DIG], catalogue)
+    last = [s for s in plan.sequences[0].steps if s.role == "final_inspection"][0]
+    assert last.acceptance["rule"] == {"rule": "scratch_dig", "spec": "60-40"}
+    assert check_acceptance_rule(last.acceptance["rule"]) == "scratch_dig"
 
 
 # ------------------------------------------------------------------ severe abrasion and salt fog
@@ -462,14 +476,27 @@ def test_a_custom_lab_order_changes_the_chain(catalogue: Catalogue) -> None:
 
 
 def test_spectral_limits_go_to_every_spectral_step(catalogue: Catalogue) -> None:
-    limits = [{"quantity": "R", "max_pct": 0.5, "from_nm": 450, "to_nm": 650}]
+    # the limit shape is the verdict code's (durability.verdicts module doc)
+    limits = [
+        {
+            "band_nm": [450, 650],
+            "quantity": "R",
+            "statistic": "average",
+            "max": 0.5,
+            "min": None,
+            "unit": "%",
+        }
+    ]
     plan = plan_sequences(MIL_BASIC, catalogue, {"spectral_limits": limits})
     spectral = [s for s in plan.sequences[0].steps if s.kind == "spectral_measurement"]
     assert len(spectral) == 2
     for s in spectral:
         assert s.acceptance["rule"] == {"rule": "spectral_limits", "limits": limits}
     assert "no spectral limits" not in review_text(plan)
-    assert "no spectral limits" in review_text(plan_sequences(MIL_BASIC, catalogue))
+    # without limits the spectra are recorded only, and the plan asks for the limits
+    bare = plan_sequences(MIL_BASIC, catalogue)
+    assert "no spectral limits" in review_text(bare)
+    assert bare.sequences[0].steps[1].acceptance["rule"] == {"rule": "recorded_only"}
 
 
 @pytest.mark.parametrize(
@@ -483,6 +510,7 @@ def test_spectral_limits_go_to_every_spectral_step(catalogue: Catalogue) -> None
         ({"recovery_h": -1}, "recovery_h"),
         ({"chain_non_destructive": "yes"}, "chain_non_destructive"),
         ({"spectral_limits": [1]}, "'spectral_limits'[0]"),
+        ({"spectral_limits": [{"quantity": "R"}]}, "'spectral_limits'"),
         ({"colour": "blue"}, "unknown field(s) 'colour'"),
     ],
 )
@@ -597,7 +625,7 @@ def test_every_plan_keeps_the_piece_rules(picks: list[int], disputed: bool, chai
                 assert steps[n + 1].kind == "inspection"
         assert [s.role for s in steps].count("final_inspection") == 1
         for s in steps:
-            validate_rule(s.acceptance["rule"], f"{sequence.label}.{s.order}")
+            check_acceptance_rule(s.acceptance["rule"])
     # nothing is dropped: every requirement is planned or reviewed
     planned = {i for q in plan.sequences for s in q.steps for i in s.sources}
     surfaced = {x["requirement"] for q in plan.sequences for s in q.steps for x in s.surface_limits}
