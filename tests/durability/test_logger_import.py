@@ -490,6 +490,18 @@ def logger_like_text(draw: st.DrawFn) -> str:
     return text
 
 
+@settings(max_examples=200)
+@given(
+    logger_like_text(),
+    st.sampled_from([None, "Europe/Berlin", "UTC+01:00", "America/New_York"]),
+    st.sampled_from([None, "day-first", "month-first", "iso"]),
+)
+def test_fuzz_logger_like_text_gives_a_result_or_an_input_error(
+    text: str, zone: str | None, order: str | None
+) -> None:
+    _outcome(text, time_zone=zone, date_order=order)
+
+
 @st.composite
 def logs(draw: st.DrawFn) -> tuple[list[Sample], str, str, str, str]:
     count = draw(st.integers(2, 30))
