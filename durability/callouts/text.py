@@ -137,6 +137,13 @@ def _is_separator(rec: str, index: int, iso_from: int) -> bool:
     return True
 
 
+# "ISO 9022-12-06-1 and ISO 9022-40-04-0": a joining word before another standard's designation
+# starts a new callout (the joining word goes with it, so the callout text stays contiguous).
+_JOINED_DESIGNATION = re.compile(
+    r"(?<=\s)(?:and|&|\+|plus)\s+(?=(?:DIN\s+EN\s+)?(?:ISO|MIL|ASTM)(?![a-z]))", FLAGS
+)
+
+
 def _ascii_digit(text: str, index: int) -> bool:
     return 0 <= index < len(text) and text[index] in "0123456789"
 
@@ -159,8 +166,15 @@ def split_segments(line: int, raw: str) -> list[Segment]:
             start += 1
         while end > start and norm[end - 1].isspace():
             end -= 1
-        if start < end and any(c.isalnum() for c in raw[start:end]):
-            segments.append(Segment(line=line, start=start, end=end, raw=raw, rec=rec))
+        cuts = [start]
+        cuts += [m.start() for m in _JOINED_DESIGNATION.finditer(rec, start, end)]
+        for piece_start, piece_end in zip(cuts, [*cuts[1:], end], strict=True):
+            while piece_end > piece_start and norm[piece_end - 1].isspace():
+                piece_end -= 1
+            if piece_start < piece_end and any(c.isalnum() for c in raw[piece_start:piece_end]):
+                segments.append(
+                    Segment(line=line, start=piece_start, end=piece_end, raw=raw, rec=rec)
+                )
         seg_start = index + 1
         if seg_start <= len(rec):
             iso_from = _iso10110_start(rec, seg_start)

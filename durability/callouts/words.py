@@ -66,7 +66,7 @@ HUMAN: dict[str, str] = {
 _CONNECTOR = re.compile(
     r"(?:[\s+&/(),.:\[\]]+|(?:and|with|plus|incl|including|also|or)(?![a-z0-9])\.?)", FLAGS
 )
-_WORD = re.compile(r"[^\s+&/(),.:;\[\]]+")
+_WORD = re.compile(r"[^\s+&/(),:;\[\]]+")
 
 # Words that carry no requirement around a callout ("coating per", "shall pass", "tests").
 _FILLER = frozenset(

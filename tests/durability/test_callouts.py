@@ -207,6 +207,24 @@ def test_an_unknown_mil_document_is_kept_for_review():
     assert (req.kind, req.standard, req.needs_review) == ("unknown", "MIL-F-48616", True)
 
 
+def test_words_the_parser_does_not_understand_are_flagged_not_dropped():
+    req = one("MIL-C-48497A paragraph 3.4.3")
+    assert req.standard == "MIL-C-48497A"
+    assert req.needs_review is True
+    assert any("'paragraph 3.4.3'" in a for a in req.assumptions)
+
+
+def test_a_joining_word_before_another_standard_starts_a_new_callout():
+    result = parse_callouts("ISO 9022-12-06-1 and ISO 9022-40-04-0 & MIL-C-675C")
+    assert result.errors == ()
+    assert [(r.standard, r.text) for r in result.requirements] == [
+        ("ISO 9022-2", "ISO 9022-12-06-1"),
+        ("ISO 9022-4", "and ISO 9022-40-04-0"),
+        ("MIL-C-675C", "& MIL-C-675C"),
+    ]
+    assert one("adhesion and humidity").tests == ("adhesion", "humidity")
+
+
 # ---------------------------------------------------------------- bare test names
 
 
