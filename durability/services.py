@@ -101,6 +101,8 @@ def version_as_entry(version: MethodVersion) -> dict[str, Any]:
         value = row["value"]
         if isinstance(value, Decimal):
             value = float(value)
+        if value == "":
+            value = None
         spec = {"value": value, "unit": row["unit"], "status": row["status"],
                 "placeholder": row["placeholder"], "note": row["note"]}
         for key in ("confirmed_by", "confirmed_on", "copy"):

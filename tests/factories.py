@@ -129,3 +129,26 @@ class InstrumentFactory(factory.django.DjangoModelFactory):
     name = "Humidity chamber"
     kind = "humidity chamber"
     calibration_due = datetime.date(2027, 6, 30)
+
+
+def released_plan(*, lot=None, callouts: str = "MIL-C-48497A", engineer=None, pieces: int | None = None):
+    """A lot with a plan released through the real services (seeds the catalogue if empty).
+
+    Returns the released TestPlan; its lot has just enough witness pieces.
+    """
+    from durability.models import Method
+    from durability.services import catalogue_seed
+    from labrecords.services import plans
+
+    if not Method.objects.exists():
+        catalogue_seed()
+    engineer = engineer or UserFactory(username="plan-engineer", roles=["engineer"])
+    lot = lot or LotFactory()
+    lot.spec.callout_text = callouts
+    lot.spec.save()
+    draft = plans.plan_draft_create(actor=engineer, lot=lot)
+    needed = sum(s.pieces_needed for s in draft.sequences.all()) if pieces is None else pieces
+    for _ in range(needed - lot.pieces.count()):
+        WitnessPieceFactory(lot=lot, glass=lot.spec.glass)
+    plans.plan_pieces_assign(actor=engineer, plan=draft)
+    return plans.plan_release(actor=engineer, plan=draft, review_items_acknowledged=True)
