@@ -45,7 +45,10 @@ AVERAGE_METHODS: tuple[AverageMethod, ...] = ("trapezoid", "sample-mean")
 # the importers round wavelengths to 1e-6 nm.
 _EDGE_SLACK_NM = 1e-6
 
-_CURVE_CONVENTION = "linear interpolation between samples; band-edge values interpolated"
+_CURVE_CONVENTION = (
+    "linear interpolation between samples; the value at a band edge is interpolated when no "
+    "sample falls there"
+)
 _AVERAGE_CONVENTIONS = {
     "trapezoid": "trapezoid integral over the band divided by its width; " + _CURVE_CONVENTION,
     "sample-mean": "plain mean of the samples inside the band (edges included); "
