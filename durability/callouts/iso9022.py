@@ -165,6 +165,9 @@ def _code_draft(
     return draft
 
 
+_NO_CODE = "no test code (method-severity-state)"
+
+
 @dataclass
 class Iso9022Host:
     """An ISO 9022 callout; bare codes after it on the line (``, 13-03-1``) are further codes."""
@@ -172,22 +175,38 @@ class Iso9022Host:
     first: Draft | ErrorItem
     written_part: str | None
     edition: str | None
+    part_only: bool = False
 
     def attach(self, segment: Segment) -> list[Item] | None:
-        """Take a following bare test code ``MM-SS-O`` as another ISO 9022 requirement."""
+        """Take a following bare test code ``MM-SS-O``: the code of a part-only callout
+        (``ISO 9022-2, 12-06-1``), else another ISO 9022 requirement."""
         found = _BARE_CODE_RE.match(segment.text)
         if found is None:
             return None
-        draft = Draft.at("environmental", segment)
-        result = _code_draft(
-            segment,
-            draft,
-            self.written_part,
-            self.edition,
+        groups = (
             (found["mm"], found.start("mm")),
             (found["ss"], found.start("ss")),
             (found["o"], found.start("o")),
         )
+        if self.part_only and isinstance(self.first, Draft):
+            self.part_only = False
+            before = self.first
+            draft = Draft(
+                kind="environmental",
+                line=before.line,
+                start=before.start,
+                end=segment.end,
+                raw=before.raw,
+            )
+            result = _code_draft(segment, draft, self.written_part, self.edition, *groups)
+            if isinstance(result, Draft):
+                for note in before.assumptions:
+                    if not note.startswith(_NO_CODE):
+                        result.note(note, review=True)
+            self.first = result
+            return []
+        draft = Draft.at("environmental", segment)
+        result = _code_draft(segment, draft, self.written_part, self.edition, *groups)
         if isinstance(result, Draft):
             result.note("ISO 9022 taken from earlier on the same line")
         return [result]
@@ -228,7 +247,7 @@ def read_iso9022(segment: Segment) -> Iso9022Host | None:
         draft.edition = code.edition
         draft.normal = draft.standard + (f":{code.edition}" if code.edition else "")
         draft.note(
-            "no test code (method-severity-state): the conditioning is left for an engineer",
+            f"{_NO_CODE}: the conditioning is left for an engineer",
             review=True,
         )
         result = draft
@@ -254,10 +273,11 @@ def read_iso9022(segment: Segment) -> Iso9022Host | None:
         )
     if isinstance(result, Draft):
         leftover_words(result, blank(text, [(found.start(), code.end)]), _ISO9022_WORDS)
-    return Iso9022Host(result, written_part, code.edition)
+    return Iso9022Host(result, written_part, code.edition, part_only=len(groups) < 2)
 
 
 def leftover_words(draft: Draft, text: str, extra_ok: frozenset[str]) -> None:
+    """Flag ``draft`` for review when ``text`` holds words other than fillers or ``extra_ok``."""
     rest = scan(text, extra_ok)
     if rest.unknown:
         draft.note(

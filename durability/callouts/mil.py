@@ -149,7 +149,9 @@ class MilHost:
                 spans.append(found.span())
         amendments = _amendments(text, spans)
         found_tests = scan(blank(text, spans))
-        if found_tests.unknown or not (found_tests.tests or appendix or amendments):
+        # Only test names, an appendix, an amendment or words that carry nothing ("basic
+        # tests") belong to the spec; anything else is a callout of its own.
+        if found_tests.unknown:
             return None
         if appendix is not None:
             self.appendix = appendix

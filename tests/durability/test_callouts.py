@@ -119,6 +119,15 @@ def test_named_basic_tests_on_the_spec_line_attach_to_the_spec():
     assert req.normal == "MIL-C-48497A"
 
 
+def test_words_that_carry_nothing_after_a_spec_stay_with_it():
+    req = one("MIL-C-48497A, basic tests")
+    assert (req.text, req.tests, req.needs_review) == (
+        "MIL-C-48497A, basic tests",
+        MIL_48497A_BASIC,
+        False,
+    )
+
+
 def test_it_states_the_temperature_and_solvent_choice_both_ways():
     # Sources disagree whether these are basic (shared/reference/test-methods.md [pub]).
     default = one("MIL-C-48497A")
@@ -301,6 +310,18 @@ def test_a_bare_code_after_an_iso_9022_code_is_another_code():
         ("ISO 9022-2", "12"),
         ("ISO 9022-4", "40"),
     ]
+
+
+def test_a_code_after_a_part_only_callout_completes_it():
+    req = one("ISO 9022-2, 12-06-1")
+    assert (req.standard, req.method, req.severity, req.state, req.needs_review) == (
+        "ISO 9022-2",
+        "12",
+        "06",
+        "1",
+        False,
+    )
+    assert req.text == "ISO 9022-2, 12-06-1"
 
 
 def test_it_keeps_the_iso_9022_edition_as_written():
