@@ -228,16 +228,17 @@ def split_lines(text: str) -> list[str]:
     return lines
 
 
+_JCAMP_LABEL = re.compile(r"^\s*##\s*(TITLE|JCAMP[-_ ]?DX)\s*=", re.IGNORECASE | re.MULTILINE)
+
+
 def _guess_format(text: str, filename: str) -> FileFormat:
-    lower = filename.lower()
-    if lower.endswith((".jdx", ".dx", ".jcamp", ".jcm")):
+    """JCAMP-DX by extension or by a ##TITLE= / ##JCAMP-DX= label near the top; else text.
+
+    A CSV whose header lines merely start with "##" stays text.
+    """
+    if filename.lower().endswith((".jdx", ".dx", ".jcamp", ".jcm")):
         return "jcamp"
-    for line in split_lines(text[:4000]):
-        stripped = line.strip()
-        if not stripped:
-            continue
-        return "jcamp" if stripped.startswith("##") else "text"
-    return "text"
+    return "jcamp" if _JCAMP_LABEL.search(text[:4000]) else "text"
 
 
 def _check_choice(name: str, value: object, choices: Sequence[str]) -> None:

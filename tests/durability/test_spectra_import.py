@@ -247,6 +247,12 @@ def test_utf16_with_a_byte_order_mark_is_read() -> None:
     assert spectrum.values[0] == 1.8
 
 
+def test_hash_comment_headers_are_text_not_jcamp() -> None:
+    spectrum = parse_spectrum("## exported by a lab script\n## R in percent\nnm,%R\n" + CURVE)
+    assert spectrum.source_format == "text"
+    assert spectrum.values[0] == 1.8
+
+
 def test_a_missing_file_is_an_input_error() -> None:
     with pytest.raises(InputError, match="cannot read"):
         read_spectrum(str(SAMPLES / "no-such-file.csv"))
