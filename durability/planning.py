@@ -116,7 +116,8 @@ class Requirement:
     "MIL-PRF-13830B App. C", "ISO 9022-2"; ``method`` and ``severity`` as written ("12", "06");
     ``state`` the ISO 9022 state of operation; ``tests`` the test keys of a coating spec;
     ``limit`` the parsed limit (crosshatch class, scratch-dig, ISO 10110-7); ``text`` the
-    callout as written, when the parser kept it.
+    callout as written and ``normal`` its rewritten form ("S/D 60/40" -> "60-40"), when the
+    parser kept them.
     """
 
     kind: str
@@ -129,6 +130,7 @@ class Requirement:
     assumptions: tuple[str, ...] = ()
     needs_review: bool = False
     text: str = ""
+    normal: str = ""
 
     def __post_init__(self) -> None:
         if self.kind not in REQUIREMENT_KINDS:
@@ -186,6 +188,7 @@ class Requirement:
             assumptions=_field_texts(raw["assumptions"], where, "assumptions"),
             needs_review=needs_review,
             text=_field_text(raw["text"], where, "text"),
+            normal=_field_text(raw["normal"], where, "normal"),
         )
 
     def label(self, index: int) -> str:
@@ -501,7 +504,7 @@ class _Planner:
         standard = req.standard or (
             "MIL-PRF-13830B" if req.kind == "scratch_dig" else "ISO 10110-7"
         )
-        spec = str(req.limit.get("normal") or req.text or "")
+        spec = str(req.normal or req.limit.get("normal") or req.text or "")
         shown = spec or str(dict(req.limit))
         # The verdict code evaluates a surface limit from its written form (rule name = kind).
         rule: dict[str, Any] = (
@@ -792,6 +795,8 @@ class _Planner:
             groups.extend([t] for t in chain)
         groups.extend([t] for t in tests if t.destructive)
 
+        for group in groups:
+            self._stacked(group)
         spectral = self._spectral_method()
         sequences = tuple(
             self._sequence(_letters(n), group, spectral) for n, group in enumerate(groups)
@@ -824,6 +829,21 @@ class _Planner:
             spare_pieces=self.options.spare_pieces,
             options=self.options,
         )
+
+    def _stacked(self, group: list[_Test]) -> None:
+        """Ask about two tests of one kind on one piece: often the same test, called twice."""
+        kinds: dict[str, list[_Test]] = {}
+        for test in group:
+            kinds.setdefault(test.kind, []).append(test)
+        for kind, same in kinds.items():
+            if len(same) > 1:
+                codes = ", ".join(t.method.code for t in same)
+                self._review(
+                    min(min(t.sources) for t in same),
+                    f"{len(same)} {kind.replace('_', ' ')} tests on one piece ({codes}): they "
+                    "run one after the other; confirm they are all required, or split them "
+                    "onto their own pieces",
+                )
 
     def _spectral_method(self) -> CatalogueMethod:
         found = _unique_methods(self.spectral_candidates)

@@ -23,6 +23,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from durability.callouts import ParseOptions, parse_callouts
 from durability.catalogue_data import Catalogue, load_catalogue, parse_catalogue
 from durability.errors import InputError
 from durability.planning import (
@@ -632,3 +633,46 @@ def test_every_plan_keeps_the_piece_rules(picks: list[int], disputed: bool, chai
     reviewed = {r.requirement for r in plan.review_items}
     for i in range(len(reqs)):
         assert i in planned | surfaced | reviewed, reqs[i]
+
+
+# ------------------------------------------------------------------ with the callout parser
+
+
+def test_the_callout_parsers_output_plans_end_to_end(catalogue: Catalogue) -> None:
+    text = "\n".join(
+        [
+            "ISO 9022-12-06-1",
+            "ISO 9211-4 01 severity 02",
+            "Crosshatch per ISO 2409 class 1 max",
+            "S/D 60/40",
+            "customer durability spec DS-7",
+        ]
+    )
+    parsed = parse_callouts(text, ParseOptions())
+    plan = plan_sequences([r.as_json() for r in parsed.requirements], catalogue)
+    assert [codes_in(s) for s in plan.sequences] == [
+        ["ISO 9022-2:12", "ISO 9211-4:01"],
+        ["ISO 2409:crosshatch"],
+    ]
+    crosshatch = step(plan.sequences[1], "ISO 2409:crosshatch")
+    assert crosshatch.acceptance["rule"] == {"rule": "crosshatch_max_class", "iso2409_class": 1}
+    # the parser's normal form "60-40" is the spec the verdict code reads
+    final = [s for s in plan.sequences[0].steps if s.role == "final_inspection"][0]
+    assert final.acceptance["rule"] == {"rule": "scratch_dig", "spec": "60-40"}
+    assert any(r.requirement == 4 for r in plan.review_items)
+
+
+def test_two_tests_of_one_kind_on_a_piece_are_questioned(catalogue: Catalogue) -> None:
+    reqs = [
+        {"kind": "coating_spec", "standard": "MIL-C-48497A", "tests": ["humidity"]},
+        {
+            "kind": "environmental",
+            "standard": "ISO 9022-2",
+            "method": "12",
+            "severity": "06",
+            "state": "1",
+        },
+    ]
+    plan = plan_sequences(reqs, catalogue)
+    assert codes_in(plan.sequences[0]) == ["MIL-C-48497A:humidity", "ISO 9022-2:12"]
+    assert "2 humidity tests on one piece" in review_text(plan)
