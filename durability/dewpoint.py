@@ -152,7 +152,8 @@ def dew_point(
             f"{low:g} to {high:g} °C; no extrapolation"
         )
     gamma = math.log(rh / 100.0) + pair.a * temperature / (pair.b_c + temperature)
-    dew = pair.b_c * gamma / (pair.a - gamma)
+    # Saturated air is at its dew point; taking it exactly keeps rounding off the range check.
+    dew = temperature if rh == 100.0 else pair.b_c * gamma / (pair.a - gamma)
     if dew < low:
         raise InputError(
             f"the dew point of {temperature:g} °C air at {rh:g} % RH ({dew:.1f} °C) is below the "
