@@ -10,9 +10,10 @@ ISO classes run 0 (nothing detached) to 5, so an ISO limit is a maximum class; A
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
 
-from durability.callouts.draft import Draft, ErrorItem, error_at
-from durability.callouts.model import ParseOptions
+from durability.callouts.draft import Draft, ErrorItem, Item, error_at
+from durability.callouts.model import CalloutError, ParseOptions, Requirement
 from durability.callouts.text import FLAGS, Segment
 from durability.callouts.words import blank, scan
 from durability.grading import (
@@ -23,7 +24,7 @@ from durability.grading import (
     max_share_pct,
 )
 
-__all__ = ["read_crosshatch"]
+__all__ = ["CrosshatchHost", "read_crosshatch"]
 
 _ISO2409_RE = re.compile(r"\bISO\s*-?\s*2409(?![0-9])(?:\s*:\s*(?P<ed>[0-9]{4}))?", FLAGS)
 _ASTM_RE = re.compile(
@@ -56,6 +57,7 @@ _MIN_RE = re.compile(
 _BETTER_RE = re.compile(r"\bor\s+(?:better|best)\b", FLAGS)
 _WORSE_RE = re.compile(r"\bor\s+worse\b", FLAGS)
 
+_NO_CLASS = "no class given: no limit read; kept for engineering review"
 _OK_WORDS = frozenset("class cl gt grade rating cut cross lattice method b".split())
 
 
@@ -94,7 +96,7 @@ def read_crosshatch(segment: Segment, options: ParseOptions) -> Draft | ErrorIte
         elif astm is not None:
             draft.standard, draft.edition = "ASTM D3359", astm["ed"]
         draft.normal = " ".join(segment.original.split())
-        draft.note("no class given: no limit read; kept for engineering review", review=True)
+        draft.note(_NO_CLASS, review=True)
         return draft
 
     draft = Draft.at("crosshatch_limit", segment)
@@ -247,3 +249,39 @@ def read_crosshatch(segment: Segment, options: ParseOptions) -> Draft | ErrorIte
             review=True,
         )
     return draft
+
+
+@dataclass
+class CrosshatchHost:
+    """A crosshatch standard without a class (``adhesion per ASTM D3359 method B``), waiting
+    for the class that follows it on the line (``, 4B min``)."""
+
+    item: Draft | ErrorItem
+    segment: Segment
+    options: ParseOptions
+
+    @staticmethod
+    def wanted(item: Draft | ErrorItem) -> bool:
+        """True when ``item`` is a crosshatch standard still missing its class."""
+        return isinstance(item, Draft) and _NO_CLASS in item.assumptions
+
+    def attach(self, segment: Segment) -> list[Item] | None:
+        """Read the standard and the following class together as one limit."""
+        if _ISO2409_RE.search(segment.text) or _ASTM_RE.search(segment.text):
+            return None
+        combined = Segment(
+            line=segment.line,
+            start=self.segment.start,
+            end=segment.end,
+            raw=segment.raw,
+            rec=segment.rec,
+        )
+        result = read_crosshatch(combined, self.options)
+        if result is None or (isinstance(result, Draft) and result.kind != "crosshatch_limit"):
+            return None
+        self.item = result
+        return []
+
+    def build(self) -> list[Requirement | CalloutError]:
+        """The limit (or the standard alone, flagged, when no class followed)."""
+        return self.item.build()

@@ -35,6 +35,9 @@ _SEVERITY_KW_RE = re.compile(
     r"(?P<s>[0-9]+)(?![0-9])",
     FLAGS,
 )
+_PAIR_ANYWHERE_RE = re.compile(
+    r"(?<![0-9.\-])(?P<m>[0-9]{1,2})\s*-\s*(?P<s>[0-9]{1,2})(?![0-9.\-])", FLAGS
+)
 _BARE_PAIR_RE = re.compile(r"^\s*(?P<m>[0-9]{1,3})\s*-\s*(?P<s>[0-9]{1,3})\s*$", FLAGS)
 
 # ISO 9211-4:2012 method numbers [pub, shared/reference/test-methods.md].
@@ -99,6 +102,13 @@ def _read_9211_fields(text: str, code_from: int | None) -> _Fields:
         severity = _two_digits(found["s"], "degree of severity", found.start("s"), fields)
         if severity is not None:
             fields.severities.append((severity, found.start("s")))
+    if code_from is not None and not fields.methods:
+        # "ISO 9211-4 abrasion 01-02": the code need not follow the designation directly.
+        pair = _PAIR_ANYWHERE_RE.search(blank(text, spans))
+        if pair is not None:
+            spans.append(pair.span())
+            fields.methods.append((pair["m"].zfill(2), pair.start("m"), None))
+            fields.severities.append((pair["s"].zfill(2), pair.start("s")))
     rest = scan(blank(text, spans))
     for mention in rest.tests:
         method = _METHOD_BY_TEST.get(mention.key)
@@ -128,8 +138,8 @@ class _Entry:
             )
             return
         self.method = value
-        if name is not None and name not in self.names:
-            self.names.append(name)
+        if name is not None and name.lower() not in self.names:
+            self.names.append(name.lower())
 
     def finish(self) -> list[Requirement | CalloutError]:
         draft = self.draft
@@ -217,8 +227,8 @@ class Iso9211Host:
                 new.append(_EntryItem(entry))
             entry.take_method(value, names[0] if names else None)
             for name in names[1:]:
-                if name not in entry.names:
-                    entry.names.append(name)
+                if name.lower() not in entry.names:
+                    entry.names.append(name.lower())
             touched.append(entry)
         target = touched[-1] if touched else current
         if attaching and not touched and fields.severities:

@@ -136,6 +136,8 @@ class MilHost:
     amendments: list[str] = field(default_factory=list)
     named: list[TestMention] = field(default_factory=list)
     unknown_words: list[str] = field(default_factory=list)
+    # Tests written before the designation ("humidity per MIL-C-48497A"): only those are meant.
+    only: list[TestMention] = field(default_factory=list)
 
     def attach(self, segment: Segment) -> list[Item] | None:
         """Take a following ``severe abrasion``, ``salt fog``, ``App. C`` or ``Amendment 3``."""
@@ -166,12 +168,16 @@ class MilHost:
         draft.standard = mil_designation(self.base, self.revision, self.appendix)
         if self.amendments:
             draft.edition = ", ".join(dict.fromkeys(self.amendments))
-        named_optional = self._resolve_tests()
-        normal = draft.standard + (f" {draft.edition}" if draft.edition else "")
+        chosen = self._resolve_tests()
         order = {key: index for index, key in enumerate(TEST_KEYS)}
-        for key in sorted(set(named_optional), key=order.__getitem__):
-            normal += f", {HUMAN[key]}"
-        draft.normal = normal
+        listed = [HUMAN[key] for key in sorted(set(chosen), key=order.__getitem__)]
+        designation = draft.standard + (f" {draft.edition}" if draft.edition else "")
+        if not self.only:
+            draft.normal = ", ".join([designation, *listed])
+        elif listed:
+            draft.normal = f"{' + '.join(listed)} per {designation}"
+        else:
+            draft.normal = " ".join(self.draft.raw[draft.start : draft.end].split())
         if self.unknown_words:
             words = " ".join(self.unknown_words)
             draft.note(
@@ -181,7 +187,7 @@ class MilHost:
         return draft.build()
 
     def _resolve_tests(self) -> list[str]:
-        """Fill the draft's tests; return the when-specified tests that were named."""
+        """Fill the draft's tests; return the named tests that go into the normal form."""
         draft = self.draft
         spec = SPECS.get((self.base, self.appendix))
         if self.base == "MIL-PRF-13830" and self.appendix is None:
@@ -228,14 +234,38 @@ class MilHost:
                 f"{choice}: sources disagree (option mil_48497_temperature_solvent_basic="
                 f"{self.options.mil_48497_temperature_solvent_basic})"
             )
+        if self.only:
+            draft.note(
+                "tests named before the spec: only those are required, not its whole basic set"
+            )
+            chosen = self._place([*self.only, *self.named], spec, basic, optional, only=True)
+            draft.tests.extend(chosen)
+            return chosen
         draft.tests.extend(basic)
-        named_optional: list[str] = []
-        for mention in self.named:
+        chosen = self._place(self.named, spec, basic, optional, only=False)
+        draft.tests.extend(chosen)
+        return chosen
+
+    def _place(
+        self,
+        mentions: list[TestMention],
+        spec: MilSpec,
+        basic: list[str],
+        optional: list[str],
+        only: bool,
+    ) -> list[str]:
+        """The named tests that are the spec's (all of them when ``only``, else the
+        when-specified ones); the rest become notes."""
+        draft = self.draft
+        chosen: list[str] = []
+        for mention in mentions:
             key = mention.key
             if key == "abrasion":
+                if only:
+                    chosen.append("moderate_abrasion")
                 draft.note(
                     f"{mention.written!r} does not say moderate or severe: moderate_abrasion "
-                    "(basic) kept; confirm whether severe_abrasion is wanted",
+                    "kept; confirm whether severe_abrasion is wanted",
                     review=True,
                 )
             elif key == "solubility":
@@ -245,9 +275,14 @@ class MilHost:
                     review=True,
                 )
             elif key in basic:
-                draft.note(f"{HUMAN[key]} is a basic test of {spec.designation}: included anyway")
+                if only:
+                    chosen.append(key)
+                else:
+                    draft.note(
+                        f"{HUMAN[key]} is a basic test of {spec.designation}: included anyway"
+                    )
             elif key in optional:
-                named_optional.append(key)
+                chosen.append(key)
                 if key == "salt_fog" and spec.base != "MIL-C-48497":
                     draft.note("salt spray recorded under the test key salt_fog")
             else:
@@ -256,12 +291,11 @@ class MilHost:
                     "for engineering review",
                     review=True,
                 )
-        draft.tests.extend(named_optional)
-        return named_optional
+        return chosen
 
     def _named_without_spec(self) -> None:
-        if self.named:
-            written = ", ".join(m.written for m in self.named)
+        if self.named or self.only:
+            written = ", ".join(m.written for m in [*self.only, *self.named])
             self.draft.note(f"named tests kept for engineering review: {written}", review=True)
 
 
@@ -316,7 +350,8 @@ def read_mil(segment: Segment, options: ParseOptions) -> MilHost | Draft | None:
         options=options,
         appendix=appendix,
         amendments=amendments,
-        named=rest.tests,
+        named=[m for m in rest.tests if m.start >= found.start()],
         unknown_words=[word for word, _ in rest.unknown],
+        only=[m for m in rest.tests if m.start < found.start()],
     )
     return host

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import re
 
-from durability.callouts.crosshatch import read_crosshatch
+from durability.callouts.crosshatch import CrosshatchHost, read_crosshatch
 from durability.callouts.draft import Draft, Host, Item, error_at
 from durability.callouts.iso9022 import read_iso9022
 from durability.callouts.iso9211 import read_iso9211_4
@@ -113,6 +113,9 @@ def _classify(segment: Segment, options: ParseOptions) -> tuple[list[Item], Host
     if host9211 is not None or items:
         return items, host9211
     crosshatch = read_crosshatch(segment, options)
+    if isinstance(crosshatch, Draft) and CrosshatchHost.wanted(crosshatch):
+        waiting = CrosshatchHost(crosshatch, segment, options)
+        return [waiting], waiting
     if crosshatch is not None:
         return [crosshatch], None
     mil = read_mil(segment, options)

@@ -119,6 +119,24 @@ def test_named_basic_tests_on_the_spec_line_attach_to_the_spec():
     assert req.normal == "MIL-C-48497A"
 
 
+@pytest.mark.parametrize(
+    ("text", "tests", "normal"),
+    [
+        ("Humidity per MIL-C-48497A", ("humidity",), "humidity per MIL-C-48497A"),
+        (
+            "adhesion and humidity per MIL-C-48497A, salt fog",
+            ("adhesion", "humidity", "salt_fog"),
+            "adhesion + humidity + salt fog per MIL-C-48497A",
+        ),
+        ("severe abrasion IAW MIL-C-675C", ("severe_abrasion",), "severe abrasion per MIL-C-675C"),
+    ],
+)
+def test_tests_named_before_the_spec_are_the_only_ones_required(text, tests, normal):
+    req = one(text)
+    assert (req.tests, req.normal) == (tests, normal)
+    assert any("only those are required" in a for a in req.assumptions)
+
+
 def test_words_that_carry_nothing_after_a_spec_stay_with_it():
     req = one("MIL-C-48497A, basic tests")
     assert (req.text, req.tests, req.needs_review) == (
@@ -390,6 +408,7 @@ def test_iso_9022_without_a_code_is_kept_for_review():
         "ISO 9211-4 abrasion severity 2",
         "ISO 9211-4, method 1, severity 2",
         "ISO 9211-4 meth. 1 sev. 2",
+        "ISO 9211-4 Abrasion 01-02",
         "iso 9211\u20134 method 01 degree of severity 02",
     ],
 )
@@ -512,6 +531,26 @@ def test_the_boundary_convention_is_stated_and_can_be_changed():
 def test_an_edition_of_astm_d3359_is_kept():
     req = one("ASTM D3359-17 4B min")
     assert (req.standard, req.edition, req.normal) == ("ASTM D3359", "17", "ASTM D3359-17 4B min")
+
+
+def test_a_class_after_its_standard_on_the_same_line_completes_it():
+    req = one("adhesion per ASTM D3359 method B, 4B min")
+    assert (req.kind, req.standard, req.limit["max_share_detached_pct"]) == (
+        "crosshatch_limit",
+        "ASTM D3359",
+        5.0,
+    )
+    assert req.text == "adhesion per ASTM D3359 method B, 4B min"
+    error = one_error("ASTM D3359, 4B max")
+    assert (error.text, error.column) == ("ASTM D3359, 4B max", 16)
+
+
+def test_a_crosshatch_standard_without_a_class_is_kept_for_review():
+    result = parse_callouts("ISO 2409, 60-40")
+    assert [(r.kind, r.standard, r.needs_review) for r in result.requirements] == [
+        ("unknown", "ISO 2409", True),
+        ("scratch_dig", None, False),
+    ]
 
 
 def test_a_class_without_a_standard_is_read_on_the_iso_scale_and_flagged():
@@ -745,7 +784,9 @@ VALID = [
     "MIL-PRF-13830B App. C",
     "MIL-PRF-13830B appendix D",
     "adhesion + humidity",
+    "Humidity per MIL-C-48497A",
     "ISO 9022-12-06-1",
+    "ISO 9022-2, 12-06-1",
     "ISO 9022-40-04-0",
     "ISO 9022-2:2012 12-06-1",
     "ISO 9022-4-12-06-1",
@@ -753,6 +794,8 @@ VALID = [
     "ISO 9211-4 method 01 severity 02",
     "ISO 9211-4, abrasion, severity 2",
     "ISO 9211-4:2012 method 03",
+    "ISO 9211-4 Abrasion 01-02",
+    "adhesion per ASTM D3359 method B, 4B min",
     "ISO 2409 class 1 max",
     "ISO 2409 Gt 1",
     "ASTM D3359 4B min",
