@@ -25,7 +25,9 @@ import math
 import random
 import time
 from collections import defaultdict
+from collections.abc import Mapping
 from dataclasses import dataclass, field
+from typing import Any
 
 from durability.scheduling.bounds import Heads, heads_and_tails, lower_bound
 from durability.scheduling.calendar import Busy, LabCalendar, from_minutes
@@ -107,16 +109,21 @@ def _search(
 ) -> tuple[_Pass, int]:
     priority = [lot.priority for lot in p.lots]
 
+    own_end = [0] * len(p.lots)
+    for s in range(p.n):
+        own_end[p.lot[s]] = max(own_end[p.lot[s]], heads.end[s])
+
     def urgencies(mode: int) -> list[float]:
         # Mode 0: lots due after the makespan bound are planned as if due at it, so the
-        # makespan is not sacrificed to them; mode 1: due dates as given; mode 2: the
-        # remaining chain alone (lots without a due date are always planned for the bound).
+        # makespan is not sacrificed to them. Mode 1: due dates as given, and lots without
+        # one as due when their own chain could end. Mode 2: every lot as due when its own
+        # chain could end (first come, first served, which mixes run lengths well).
         if mode == 0:
             due_eff = [target if due is None else min(due, target) for due in p.lot_due]
         elif mode == 1:
-            due_eff = [target if due is None else due for due in p.lot_due]
+            due_eff = [own_end[i] if due is None else due for i, due in enumerate(p.lot_due)]
         else:
-            due_eff = [target] * len(p.lot_due)
+            due_eff = own_end
         return [
             -priority[p.lot[s]] * URGENCY_CLASS + due_eff[p.lot[s]] - (p.dur[s] + heads.tail[s])
             for s in range(p.n)
@@ -153,12 +160,21 @@ def _search(
         and passes < options.max_passes
         and time.perf_counter() - clock <= options.time_budget_s
     ):
-        sigma = rng.choice((120.0, 480.0, 1440.0, 4320.0))
-        share = rng.choice((0.05, 0.15, 0.4))
         offsets = list(best_offsets)
-        for s in movable:
-            if rng.random() < share:
-                offsets[s] += rng.gauss(0.0, sigma)
+        if rng.random() < 0.5:
+            # Shift whole lots: which lots go first decides how run lengths mix in the
+            # chambers, the main lever on the makespan.
+            sigma = rng.choice((720.0, 2880.0, 10080.0))
+            share = rng.choice((0.1, 0.3, 1.0))
+            shift = [rng.gauss(0.0, sigma) if rng.random() < share else 0.0 for _ in p.lots]
+            for s in movable:
+                offsets[s] += shift[p.lot[s]]
+        else:
+            sigma = rng.choice((120.0, 480.0, 1440.0, 4320.0))
+            share = rng.choice((0.05, 0.15, 0.4))
+            for s in movable:
+                if rng.random() < share:
+                    offsets[s] += rng.gauss(0.0, sigma)
         urgency = [base[s] + offsets[s] for s in range(p.n)]
         setting = best_setting if rng.random() < 0.7 else rng.choice(options.settings)
         candidate = _simulate(p, heads.start, urgency, setting, options.lateness_weight)
@@ -493,7 +509,7 @@ def _later_start(
     return best_at
 
 
-def _drop_placed(heaps: dict, placed: list[bool]) -> None:  # type: ignore[type-arg]
+def _drop_placed(heaps: Mapping[Any, list[tuple[float, int]]], placed: list[bool]) -> None:
     """Steps eligible for both a chamber and a bench sit in two queues; drop the placed copy."""
     for heap in heaps.values():
         while heap and placed[heap[0][1]]:
@@ -509,10 +525,10 @@ def _score(p: Prepared, result: _Pass, lateness_weight: float) -> _Pass:
     """
     completion: list[int | None] = [None] * len(p.lots)
     for s in range(p.n):
-        lot = p.lot[s]
-        value = completion[lot]
+        lot_i = p.lot[s]
+        value = completion[lot_i]
         if value is None or result.end[s] > value:
-            completion[lot] = result.end[s]
+            completion[lot_i] = result.end[s]
     lateness = 0.0
     for lot_i, lot in enumerate(p.lots):
         due = p.lot_due[lot_i]
@@ -532,7 +548,7 @@ def _result(p: Prepared, heads: Heads, best: _Pass, bound: LowerBound, passes: i
     origin = p.workload.start
     run_names: dict[int, str] = {}
     per_chamber: dict[int, list[int]] = defaultdict(list)
-    for i, (r, run_start, _) in enumerate(best.runs):
+    for i, (r, _, _) in enumerate(best.runs):
         per_chamber[r].append(i)
     for r, indices in per_chamber.items():
         indices.sort(key=lambda i: best.runs[i][1])
