@@ -86,7 +86,15 @@ HAZARDS: tuple[str, ...] = (
     "laser",
     "sharp_blade",
 )
-STATUSES: tuple[str, ...] = ("public_summary", "from_memory", "common_practice", "to_be_entered")
+# "confirmed" never appears in the seed file: a lab confirms a value against its own copy of
+# the standard in the app, and the planner reads the catalogue back from the database.
+STATUSES: tuple[str, ...] = (
+    "public_summary",
+    "from_memory",
+    "common_practice",
+    "to_be_entered",
+    "confirmed",
+)
 STANDARD_STATUSES: tuple[str, ...] = ("active", "inactive")
 # The defect vocabulary is the grading module's, so a rule can only name what can be observed.
 DEFECTS: tuple[str, ...] = tuple(d.value for d in DefectType)

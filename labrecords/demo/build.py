@@ -25,6 +25,7 @@ from labrecords.services import customers as customer_services
 from labrecords.services import lots as lot_services
 from labrecords.services import observations as observation_services
 from labrecords.services import orders as order_services
+from labrecords.services import plans as plan_services
 
 LOT_COUNT = 40
 HISTORY_DAYS = 90
@@ -119,7 +120,32 @@ def build(*, today: datetime.date | None = None, seed: int = 2026) -> DemoLab:
             index=index, rng=rng, received=received, customer=customer, design=design,
             glass=glass, coater=coaters[index % len(coaters)], stock=stocks[glass.name],
             engineer=engineer, technician=technician))
+    for lot in lab.lots:
+        if lot.run_date <= today - datetime.timedelta(days=PLAN_AFTER_DAYS):
+            _release_plan(lot=lot, stock=stocks[lot.spec.glass.name], engineer=engineer)
     return lab
+
+
+# Lots coated at least this long ago have a released plan; newer ones wait for the engineer.
+PLAN_AFTER_DAYS = 6
+
+
+def _release_plan(*, lot, stock: WitnessStock, engineer) -> None:
+    """Plan a lot from its callouts and release it, as the engineer did the day after coating.
+
+    A lot whose callouts need engineering review before anything can be planned keeps its
+    draft, so the demo shows one waiting for the engineer.
+    """
+    with clock.frozen_at(_at(lot.run_date + datetime.timedelta(days=1), 11)):
+        draft = plan_services.plan_draft_create(actor=engineer, lot=lot)
+        if not draft.sequences.exists():
+            return
+        needed = sum(s.pieces_needed for s in draft.sequences.all()) - lot.pieces.count()
+        if needed > 0:
+            lot_services.witness_pieces_allocate(actor=engineer, lot=lot, stock=stock,
+                                                 count=needed)
+        plan_services.plan_pieces_assign(actor=engineer, plan=draft)
+        plan_services.plan_release(actor=engineer, plan=draft, review_items_acknowledged=True)
 
 
 def _spec_fields(index: int, rng: random.Random, design: CoatingDesign,

@@ -54,12 +54,6 @@ def catalogue_from_database() -> tuple[Catalogue, dict[str, MethodVersion]]:
                    if key in spec}
             for name, spec in entry["parameters"].items()
         }
-        entry["acceptance"]["status"] = (
-            "public_summary" if entry["acceptance"]["status"] == "confirmed"
-            else entry["acceptance"]["status"])
-        for spec in entry["parameters"].values():
-            if spec.get("status") == "confirmed":
-                spec["status"] = "public_summary"  # the loader's vocabulary; kept in the DB
         methods.append({
             "code": code, "standard": method.standard.designation, "clause": method.clause,
             "name": method.name, "kind": method.kind, "test_key": method.test_key or None,
@@ -136,7 +130,7 @@ def plan_draft_create(*, actor, lot: Lot, pieces_per_sequence: int = 1,
                 raise ValidationError(f"The catalogue has no method {step.method_code}.")
             parameters = {name: dict(spec) for name, spec in step.parameters.items()}
             for name, spec in parameters.items():
-                # The database keeps confirmations the planner's vocabulary lacks.
+                # Who confirmed it, when and against which copy, kept with the value.
                 spec.update(version.parameter_status.get(name, {}))
             hours, _source = step_hours(step.kind, parameters)
             PlanStep.objects.create(

@@ -6,7 +6,7 @@ from django_filters.views import FilterView
 from django_tables2 import SingleTableMixin
 
 from labrecords import selectors
-from labrecords.access import lot_for_user, piece_for_user, spec_for_user
+from labrecords.access import lot_for_user, piece_for_user
 from labrecords.filters import LotFilter
 from labrecords.models import Lot
 from labrecords.tables import LotTable
@@ -48,10 +48,3 @@ def piece_detail(request, ident: str):
         "piece": piece,
         "observations": selectors.piece_observations(piece),
     })
-
-
-@require_safe
-@login_required
-def spec_detail(request, pk: int):
-    spec = spec_for_user(request.user, pk)
-    return render(request, "labrecords/spec_detail.html", {"spec": spec})

@@ -30,6 +30,8 @@ class Command(BaseCommand):
                     transaction.set_rollback(True)
         except InputError as exc:
             raise CommandError(f"{path}: {exc}") from None
+        if options["verbosity"] < 1:
+            return
         prefix = "Would add" if options["dry_run"] else "Added"
         self.stdout.write(self.style.SUCCESS(
             f"{prefix} {len(report.standards_added)} standard(s), {len(report.methods_added)} "
