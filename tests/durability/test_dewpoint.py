@@ -101,6 +101,7 @@ def test_frost_point_matches_the_ice_table(frost: float) -> None:
     # Air at 20 °C holding the vapour pressure of ice at `frost` has that frost point.
     rh = 100.0 * ICE_KPA[frost] / WATER_KPA[20.0]
     result = dew_point(20.0, rh)
+    assert result.frost_point_c is not None
     assert result.frost_point_c == pytest.approx(frost, abs=0.15)
     assert result.ice_coefficients is OVER_ICE
     # Ice holds less vapour than supercooled water at the same temperature, so the dew point

@@ -200,8 +200,10 @@ def test_the_correction_is_applied_and_raw_values_kept() -> None:
     corrected = verify_exposure(readings, HUMIDITY, required_hours=2, correction=correction)
     assert corrected.counts and corrected.in_tolerance_hours == pytest.approx(2.0)
     first = corrected.readings[0]
-    assert (first.temperature_raw_c, first.temperature_c) == (46.5, pytest.approx(47.1))
-    assert (first.rh_raw_percent, first.rh_percent) == (94.0, pytest.approx(95.5))
+    assert first.temperature_raw_c == 46.5
+    assert first.temperature_c == pytest.approx(47.1)
+    assert first.rh_raw_percent == 94.0
+    assert first.rh_percent == pytest.approx(95.5)
     assert first.in_tolerance
 
 

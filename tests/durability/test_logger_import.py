@@ -33,8 +33,10 @@ from durability.exposure.logger import (
 SAMPLES = Path(__file__).resolve().parents[2] / "fixtures" / "instrument-files" / "logger"
 
 
-def utc(*args: int) -> datetime:
-    return datetime(*args, tzinfo=UTC)
+def utc(
+    year: int, month: int, day: int, hour: int = 0, minute: int = 0, second: int = 0, us: int = 0
+) -> datetime:
+    return datetime(year, month, day, hour, minute, second, us, tzinfo=UTC)
 
 
 # ---------------------------------------------------------------- the sample files
