@@ -75,3 +75,29 @@ def lab_staff_only(user) -> None:
     """Pages that exist only for the lab: an outsider or customer sees 404."""
     if not is_lab_staff(user):
         raise Http404
+
+
+def chamber_run_for_user(user, pk: int):
+    """A chamber run holding at least one piece the user may see (lab staff: any run)."""
+    from labrecords.models import ChamberRun
+
+    return get_object_or_404(
+        ChamberRun.objects.visible_to(user).select_related(
+            "chamber", "logger", "method_version__method", "loaded_by"
+        ),
+        pk=pk,
+    )
+
+
+def evidence_for_user(user, pk: int):
+    """An evidence file of the user's own lots, or of a chamber run holding one of their
+    pieces (lab staff: any)."""
+    from labrecords.models import Evidence
+
+    visible = customer_filter(user, "lot__order__customer_id") | customer_filter(
+        user, "chamber_run__pieces__piece__lot__order__customer_id"
+    )
+    ids = Evidence.objects.filter(visible).filter(pk=pk).values("pk")
+    return get_object_or_404(
+        Evidence.objects.select_related("piece__lot__spec", "chamber_run"), pk__in=ids
+    )
