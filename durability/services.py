@@ -103,24 +103,41 @@ def version_as_entry(version: MethodVersion) -> dict[str, Any]:
             value = float(value)
         if value == "":
             value = None
-        spec = {"value": value, "unit": row["unit"], "status": row["status"],
-                "placeholder": row["placeholder"], "note": row["note"]}
+        spec = {
+            "value": value,
+            "unit": row["unit"],
+            "status": row["status"],
+            "placeholder": row["placeholder"],
+            "note": row["note"],
+        }
         for key in ("confirmed_by", "confirmed_on", "copy"):
             if row[key]:
                 spec[key] = row[key]
         parameters[row["name"]] = spec
     return {
-        "group": version.group, "destructive": version.destructive,
-        "hazards": list(version.hazards), "parameters": parameters,
-        "acceptance": {"text": version.acceptance_text, "rule": version.acceptance_rule,
-                       "status": version.acceptance_status},
+        "group": version.group,
+        "destructive": version.destructive,
+        "hazards": list(version.hazards),
+        "parameters": parameters,
+        "acceptance": {
+            "text": version.acceptance_text,
+            "rule": version.acceptance_rule,
+            "status": version.acceptance_status,
+        },
         "note": version.note,
     }
 
 
 @transaction.atomic
-def method_version_create(*, actor, method: Method, entry: dict[str, Any], reason: str,
-                          origin: str = "lab", seed_digest: str = "") -> MethodVersion:
+def method_version_create(
+    *,
+    actor,
+    method: Method,
+    entry: dict[str, Any],
+    reason: str,
+    origin: str = "lab",
+    seed_digest: str = "",
+) -> MethodVersion:
     """Add a new version of a method. The previous versions stay as they were."""
     if origin == "lab":
         require_role(actor, Role.QUALITY_MANAGER)
@@ -129,20 +146,33 @@ def method_version_create(*, actor, method: Method, entry: dict[str, Any], reaso
     Method.objects.select_for_update().filter(pk=method.pk).first()
     latest = method.versions.order_by("-number").first()
     version = MethodVersion(
-        method=method, number=(latest.number + 1) if latest else 1, origin=origin,
-        reason=reason, created_by=actor if getattr(actor, "pk", None) else None,
-        created_at=clock.now(), seed_digest=seed_digest, **_version_fields(entry),
+        method=method,
+        number=(latest.number + 1) if latest else 1,
+        origin=origin,
+        reason=reason,
+        created_by=actor if getattr(actor, "pk", None) else None,
+        created_at=clock.now(),
+        seed_digest=seed_digest,
+        **_version_fields(entry),
     )
     version.full_clean()
     version.save()
-    audit_record(actor=actor, action="new version", obj=version, after=snapshot(version),
-                 reason=reason)
+    audit_record(
+        actor=actor, action="new version", obj=version, after=snapshot(version), reason=reason
+    )
     return version
 
 
 @transaction.atomic
-def method_parameter_confirm(*, actor, method: Method, parameter: str, copy: str,
-                             value: Any = None, on: datetime.date | None = None) -> MethodVersion:
+def method_parameter_confirm(
+    *,
+    actor,
+    method: Method,
+    parameter: str,
+    copy: str,
+    value: Any = None,
+    on: datetime.date | None = None,
+) -> MethodVersion:
     """Confirm one parameter against the lab's own copy of the standard (a new version).
 
     `value` replaces the value when the lab's copy says otherwise; None keeps it.
@@ -164,33 +194,69 @@ def method_parameter_confirm(*, actor, method: Method, parameter: str, copy: str
             spec["value"] = value
         if spec.get("value") in (None, ""):
             raise ValidationError({"value": f"Enter the value of {parameter} from the lab's copy."})
-        spec.update(status=ParameterStatus.CONFIRMED, placeholder=False,
-                    confirmed_by=actor.get_full_name() or actor.username,
-                    confirmed_on=(on or clock.now().date()).isoformat(), copy=copy)
+        spec.update(
+            status=ParameterStatus.CONFIRMED,
+            placeholder=False,
+            confirmed_by=actor.get_full_name() or actor.username,
+            confirmed_on=(on or clock.now().date()).isoformat(),
+            copy=copy,
+        )
     return method_version_create(
-        actor=actor, method=method, entry=entry,
-        reason=f"{parameter} confirmed against {copy}", origin="lab",
+        actor=actor,
+        method=method,
+        entry=entry,
+        reason=f"{parameter} confirmed against {copy}",
+        origin="lab",
     )
 
 
 @transaction.atomic
-def standard_create(*, actor, designation: str, edition: str = "", title: str = "",
-                    status: str = "active", note: str = "") -> Standard:
+def standard_create(
+    *,
+    actor,
+    designation: str,
+    edition: str = "",
+    title: str = "",
+    status: str = "active",
+    note: str = "",
+) -> Standard:
     """Add a standard or a new edition of one."""
     if actor is not None:
         require_role(actor, Role.QUALITY_MANAGER)
-    return create_audited(actor=actor, obj=Standard(designation=designation, edition=edition,
-                                                    title=title, status=status, note=note))
+    return create_audited(
+        actor=actor,
+        obj=Standard(
+            designation=designation, edition=edition, title=title, status=status, note=note
+        ),
+    )
 
 
 @transaction.atomic
-def lab_method_create(*, actor, code: str, standard: Standard, name: str, kind: str,
-                      entry: dict[str, Any], clause: str = "", test_key: str = "") -> Method:
+def lab_method_create(
+    *,
+    actor,
+    code: str,
+    standard: Standard,
+    name: str,
+    kind: str,
+    entry: dict[str, Any],
+    clause: str = "",
+    test_key: str = "",
+) -> Method:
     """Add one of the lab's own procedures (or a method of a new edition) with version 1."""
     require_role(actor, Role.QUALITY_MANAGER)
-    method = create_audited(actor=actor, obj=Method(
-        code=code, standard=standard, name=name, kind=kind, clause=clause, test_key=test_key,
-        lab_procedure=True))
+    method = create_audited(
+        actor=actor,
+        obj=Method(
+            code=code,
+            standard=standard,
+            name=name,
+            kind=kind,
+            clause=clause,
+            test_key=test_key,
+            lab_procedure=True,
+        ),
+    )
     method_version_create(actor=actor, method=method, entry=entry, reason="new lab procedure")
     return method
 
@@ -207,21 +273,34 @@ def catalogue_seed(*, path: Path = CATALOGUE_SEED, actor=None) -> SeedReport:
     for row in data["standards"]:
         standard = Standard.objects.filter(designation=row["designation"]).order_by("pk").first()
         if standard is None:
-            standard = create_audited(actor=actor, obj=Standard(
-                designation=row["designation"], edition=row.get("edition", ""),
-                title=row.get("title", ""), status=row.get("status", "active"),
-                note=row.get("note", "")))
+            standard = create_audited(
+                actor=actor,
+                obj=Standard(
+                    designation=row["designation"],
+                    edition=row.get("edition", ""),
+                    title=row.get("title", ""),
+                    status=row.get("status", "active"),
+                    note=row.get("note", ""),
+                ),
+            )
             report.standards_added.append(row["designation"])
         standards[row["designation"]] = standard
     for entry in data["methods"]:
         digest = _digest(entry)
         method = Method.objects.filter(code=entry["code"]).first()
         if method is None:
-            method = create_audited(actor=actor, obj=Method(
-                code=entry["code"], standard=standards[entry["standard"]],
-                clause=entry.get("clause", ""), name=entry["name"], kind=entry["kind"],
-                test_key=entry.get("test_key") or "",
-                lab_procedure=entry["standard"] == "LAB"))
+            method = create_audited(
+                actor=actor,
+                obj=Method(
+                    code=entry["code"],
+                    standard=standards[entry["standard"]],
+                    clause=entry.get("clause", ""),
+                    name=entry["name"],
+                    kind=entry["kind"],
+                    test_key=entry.get("test_key") or "",
+                    lab_procedure=entry["standard"] == "LAB",
+                ),
+            )
             report.methods_added.append(method.code)
         current = method.current_version()
         if current is not None and current.origin != "seed":
@@ -229,14 +308,20 @@ def catalogue_seed(*, path: Path = CATALOGUE_SEED, actor=None) -> SeedReport:
             continue
         if current is not None and current.seed_digest == digest:
             continue
-        method_version_create(actor=actor, method=method, entry=entry, origin="seed",
-                              seed_digest=digest,
-                              reason="seeded from the published-methods file")
+        method_version_create(
+            actor=actor,
+            method=method,
+            entry=entry,
+            origin="seed",
+            seed_digest=digest,
+            reason="seeded from the published-methods file",
+        )
         report.versions_added.append(method.code)
     return report
 
 
 # Reference data: plain audited creates and changes.
+
 
 @transaction.atomic
 def glass_create(*, actor, **fields: Any) -> Glass:

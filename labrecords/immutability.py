@@ -197,7 +197,7 @@ def _plan_sql(vendor: str) -> list[str]:
     for op in ("UPDATE", "DELETE"):
         statements.append(
             f'CREATE TRIGGER IF NOT EXISTS "{_PLAN_TABLE}_frozen_{op.lower()}" BEFORE {op} '
-            f'ON "{_PLAN_TABLE}" WHEN OLD.status = \'released\' AND NOT labrecords_maintenance() '
+            f"ON \"{_PLAN_TABLE}\" WHEN OLD.status = 'released' AND NOT labrecords_maintenance() "
             f"BEGIN SELECT RAISE(ABORT, '{_PLAN_TABLE} {message.format(op=op)}'); END;"
         )
     for table in PLAN_CHILD_TABLES:

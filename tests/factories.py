@@ -131,7 +131,9 @@ class InstrumentFactory(factory.django.DjangoModelFactory):
     calibration_due = datetime.date(2027, 6, 30)
 
 
-def released_plan(*, lot=None, callouts: str = "MIL-C-48497A", engineer=None, pieces: int | None = None):
+def released_plan(
+    *, lot=None, callouts: str = "MIL-C-48497A", engineer=None, pieces: int | None = None
+):
     """A lot with a plan released through the real services (seeds the catalogue if empty).
 
     Returns the released TestPlan; its lot has just enough witness pieces.

@@ -6,13 +6,6 @@ from durability.models.methods import (
     Standard,
     StandardStatus,
 )
-from durability.models.resources import (
-    CalendarKind,
-    LabHoliday,
-    LabHours,
-    Resource,
-    ResourceBlock,
-)
 from durability.models.reference import (
     Coater,
     CoatingDesign,
@@ -20,6 +13,13 @@ from durability.models.reference import (
     Glass,
     Instrument,
     WitnessStock,
+)
+from durability.models.resources import (
+    CalendarKind,
+    LabHoliday,
+    LabHours,
+    Resource,
+    ResourceBlock,
 )
 
 __all__ = [

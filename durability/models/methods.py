@@ -184,9 +184,7 @@ class MethodVersion(models.Model):
         return rows
 
     @staticmethod
-    def _row(
-        name: str, label: str, value: object, unit: str, status: dict
-    ) -> dict[str, object]:
+    def _row(name: str, label: str, value: object, unit: str, status: dict) -> dict[str, object]:
         return {
             "name": name,
             "label": label,

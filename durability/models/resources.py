@@ -18,8 +18,13 @@ class Resource(models.Model):
     capacity = models.PositiveIntegerField(help_text="pieces per run, or side by side")
     # e.g. {"temperature_c": [-70, 180], "rh_pct": [10, 98]}
     condition_ranges = models.JSONField(default=dict, blank=True)
-    instrument = models.ForeignKey("durability.Instrument", null=True, blank=True,
-                                   on_delete=models.PROTECT, related_name="resources")
+    instrument = models.ForeignKey(
+        "durability.Instrument",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="resources",
+    )
     active = models.BooleanField(default=True)
 
     class Meta:
@@ -43,15 +48,17 @@ class ResourceBlock(models.Model):
     starts_at = models.DateTimeField()
     ends_at = models.DateTimeField()
     reason = models.CharField(max_length=200)
-    created_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                   related_name="+")
+    created_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
     created_at = models.DateTimeField()
 
     class Meta:
         ordering = ["resource", "starts_at"]
         constraints = [
-            models.CheckConstraint(condition=Q(ends_at__gt=F("starts_at")),
-                                   name="resource_block_ends_after_start")
+            models.CheckConstraint(
+                condition=Q(ends_at__gt=F("starts_at")), name="resource_block_ends_after_start"
+            )
         ]
 
     def __str__(self) -> str:
@@ -83,3 +90,6 @@ class LabHours(models.Model):
         constraints = [
             models.CheckConstraint(condition=Q(closes__gt=F("opens")), name="lab_hours_ordered")
         ]
+
+    def __str__(self) -> str:
+        return f"lab hours from {self.valid_from}: {self.opens:%H:%M}-{self.closes:%H:%M}"

@@ -115,7 +115,11 @@ def database_from_url(url: str, *, name: str = "DATABASE_URL") -> dict[str, obje
             raise ImproperlyConfigured(f"{name}: write sqlite:////absolute/path, got {url!r}")
         if not path or path == "/":
             raise ImproperlyConfigured(f"{name} names no SQLite file: {url!r}")
-        return {"ENGINE": "django.db.backends.sqlite3", "NAME": path, "OPTIONS": dict(SQLITE_OPTIONS)}
+        return {
+            "ENGINE": "django.db.backends.sqlite3",
+            "NAME": path,
+            "OPTIONS": dict(SQLITE_OPTIONS),
+        }
     raise ImproperlyConfigured(
         f"{name} must start with postgresql:// or sqlite:///, got {scheme or 'no scheme'!r}."
     )

@@ -7,8 +7,8 @@ class MethodFilter(django_filters.FilterSet):
     standard = django_filters.ModelChoiceFilter(queryset=Standard.objects.all())
     kind = django_filters.ChoiceFilter(choices=MethodKind.choices)
     status = django_filters.ChoiceFilter(
-        choices=ParameterStatus.choices, method="filter_status",
-        label="Has a parameter with status")
+        choices=ParameterStatus.choices, method="filter_status", label="Has a parameter with status"
+    )
 
     class Meta:
         model = Method
@@ -20,7 +20,8 @@ class MethodFilter(django_filters.FilterSet):
         for version in MethodVersion.objects.order_by("method_id", "-number"):
             current.setdefault(version.method_id, version)
         keep = [
-            method_id for method_id, version in current.items()
+            method_id
+            for method_id, version in current.items()
             if any(row["status"] == value for row in version.parameters())
             or version.acceptance_status == value
         ]

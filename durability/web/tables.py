@@ -31,6 +31,7 @@ class MethodTable(tables.Table):
         for row in current.parameters():
             counts[row["status"]] = counts.get(row["status"], 0) + 1
         return format_html_join(
-            " ", '<span class="status status-{}">{} × {}</span>',
+            " ",
+            '<span class="status status-{}">{} × {}</span>',
             ((s, ParameterStatus(s).label, n) for s, n in sorted(counts.items())),
         )

@@ -64,15 +64,19 @@ def method_detail(request, code: str):
     method = get_object_or_404(Method.objects.select_related("standard"), code=code)
     versions = list(method.versions.select_related("created_by").order_by("-number"))
     current = versions[0] if versions else None
-    return render(request, "durability/method_detail.html", {
-        "method": method,
-        "current": current,
-        "parameters": current.parameters() if current else [],
-        "versions": versions,
-        "cautions": cautions_for(current.hazards) if current else [],
-        "confirm_form": ConfirmForm(),
-        "is_quality_manager": has_role(request.user, Role.QUALITY_MANAGER),
-    })
+    return render(
+        request,
+        "durability/method_detail.html",
+        {
+            "method": method,
+            "current": current,
+            "parameters": current.parameters() if current else [],
+            "versions": versions,
+            "cautions": cautions_for(current.hazards) if current else [],
+            "confirm_form": ConfirmForm(),
+            "is_quality_manager": has_role(request.user, Role.QUALITY_MANAGER),
+        },
+    )
 
 
 @require_POST
@@ -94,8 +98,12 @@ def method_confirm(request, code: str):
             pass
     try:
         version = services.method_parameter_confirm(
-            actor=request.user, method=method, parameter=form.cleaned_data["parameter"],
-            copy=form.cleaned_data["copy"], value=value)
+            actor=request.user,
+            method=method,
+            parameter=form.cleaned_data["parameter"],
+            copy=form.cleaned_data["copy"],
+            value=value,
+        )
     except ValidationError as exc:
         _messages_from(request, exc)
     else:
@@ -116,7 +124,9 @@ def standard_create(request):
         else:
             messages.success(request, "Standard added.")
             return redirect("durability:catalogue")
-    return render(request, "durability/form.html", {"form": form, "title": "Add a standard or edition"})
+    return render(
+        request, "durability/form.html", {"form": form, "title": "Add a standard or edition"}
+    )
 
 
 @login_required
@@ -126,16 +136,25 @@ def lab_method_create(request):
     form = LabMethodForm(request.POST or None)
     if request.method == "POST" and form.is_valid():
         data = form.cleaned_data
-        entry = {"parameters": data["parameters"], "destructive": data["destructive"],
-                 "hazards": data["hazards"],
-                 "acceptance": {"text": data["acceptance_text"],
-                                "rule": {"rule": "engineer_judgement",
-                                         "text": data["acceptance_text"]},
-                                "status": "confirmed"}}
+        entry = {
+            "parameters": data["parameters"],
+            "destructive": data["destructive"],
+            "hazards": data["hazards"],
+            "acceptance": {
+                "text": data["acceptance_text"],
+                "rule": {"rule": "engineer_judgement", "text": data["acceptance_text"]},
+                "status": "confirmed",
+            },
+        }
         try:
             method = services.lab_method_create(
-                actor=request.user, code=data["code"], standard=data["standard"],
-                name=data["name"], kind=data["kind"], entry=entry)
+                actor=request.user,
+                code=data["code"],
+                standard=data["standard"],
+                name=data["name"],
+                kind=data["kind"],
+                entry=entry,
+            )
         except ValidationError as exc:
             _messages_from(request, exc)
         else:

@@ -65,50 +65,84 @@ def build(*, today: datetime.date | None = None, seed: int = 2026) -> DemoLab:
         customer_services.roles_ensure()
         admin_row = next(row for row in scenario.STAFF if row[2] == Role.ADMINISTRATOR)
         admin = customer_services.user_create(
-            actor=None, username=admin_row[0], password=admin_row[3], full_name=admin_row[1],
-            roles=[Role.ADMINISTRATOR])
+            actor=None,
+            username=admin_row[0],
+            password=admin_row[3],
+            full_name=admin_row[1],
+            roles=[Role.ADMINISTRATOR],
+        )
         lab.staff[Role.ADMINISTRATOR] = admin
         for username, full_name, role, password in scenario.STAFF:
             if role == Role.ADMINISTRATOR:
                 continue
             lab.staff[Role(role)] = customer_services.user_create(
-                actor=admin, username=username, password=password, full_name=full_name,
-                roles=[Role(role)])
+                actor=admin,
+                username=username,
+                password=password,
+                full_name=full_name,
+                roles=[Role(role)],
+            )
     engineer = lab.staff[Role.ENGINEER]
     quality = lab.staff[Role.QUALITY_MANAGER]
     technician = lab.staff[Role.TECHNICIAN]
 
     with clock.frozen_at(_at(start, 9)):
-        glasses = {row["name"]: reference.glass_create(actor=admin, **row)
-                   for row in scenario.GLASSES}
-        coaters = [reference.coater_create(actor=admin, name=n, description=d)
-                   for n, d in scenario.COATERS]
+        glasses = {
+            row["name"]: reference.glass_create(actor=admin, **row) for row in scenario.GLASSES
+        }
+        coaters = [
+            reference.coater_create(actor=admin, name=n, description=d) for n, d in scenario.COATERS
+        ]
         designs = [
             reference.coating_design_create(
-                actor=admin, code=code, name=name, coating_type=kind, materials=materials,
-                layer_count=layers, process=process, design_wavelength_nm=wl, n_eff=n_eff)
+                actor=admin,
+                code=code,
+                name=name,
+                coating_type=kind,
+                materials=materials,
+                layer_count=layers,
+                process=process,
+                design_wavelength_nm=wl,
+                n_eff=n_eff,
+            )
             for code, name, kind, materials, layers, process, wl, n_eff in scenario.DESIGNS
         ]
         for ident, name, kind, due_in_days, in_service in scenario.INSTRUMENTS:
             reference.instrument_create(
-                actor=quality, ident=ident, name=name, kind=kind, in_service=in_service,
-                calibration_due=today + datetime.timedelta(days=due_in_days))
+                actor=quality,
+                ident=ident,
+                name=name,
+                kind=kind,
+                in_service=in_service,
+                calibration_due=today + datetime.timedelta(days=due_in_days),
+            )
         stocks: dict[str, WitnessStock] = {}
         for glass_name, form, count in scenario.STOCK:
-            stock = reference.witness_stock_create(actor=admin, glass=glasses[glass_name],
-                                                   form=form)
-            lot_services.stock_receive(actor=technician, stock=stock, count=count,
-                                       note="opening stock")
+            stock = reference.witness_stock_create(
+                actor=admin, glass=glasses[glass_name], form=form
+            )
+            lot_services.stock_receive(
+                actor=technician, stock=stock, count=count, note="opening stock"
+            )
             stocks[glass_name] = stock
         customers = {}
         for name, code, contact in scenario.CUSTOMERS:
             customers[code] = customer_services.customer_create(
-                actor=admin, name=name, code=code, contact_name=contact,
-                address=f"{rng.randint(2, 98)} Invented Road, Nowhere Bay")
+                actor=admin,
+                name=name,
+                code=code,
+                contact_name=contact,
+                address=f"{rng.randint(2, 98)} Invented Road, Nowhere Bay",
+            )
         for username, full_name, code, password in scenario.CUSTOMER_USERS:
             customer_services.user_create(
-                actor=admin, username=username, password=password, full_name=full_name,
-                roles=[Role.CUSTOMER], customer=customers[code])
+                actor=admin,
+                username=username,
+                password=password,
+                full_name=full_name,
+                roles=[Role.CUSTOMER],
+                customer=customers[code],
+            )
 
     glass_list = list(glasses.values())
     for index in range(LOT_COUNT):
@@ -116,10 +150,20 @@ def build(*, today: datetime.date | None = None, seed: int = 2026) -> DemoLab:
         customer = customers[scenario.CUSTOMERS[index % len(scenario.CUSTOMERS)][1]]
         design = designs[(index * 7) % len(designs)]
         glass = glass_list[(index * 5) % len(glass_list)]
-        lab.lots.append(_order_and_lot(
-            index=index, rng=rng, received=received, customer=customer, design=design,
-            glass=glass, coater=coaters[index % len(coaters)], stock=stocks[glass.name],
-            engineer=engineer, technician=technician))
+        lab.lots.append(
+            _order_and_lot(
+                index=index,
+                rng=rng,
+                received=received,
+                customer=customer,
+                design=design,
+                glass=glass,
+                coater=coaters[index % len(coaters)],
+                stock=stocks[glass.name],
+                engineer=engineer,
+                technician=technician,
+            )
+        )
     for lot in lab.lots:
         if lot.run_date <= today - datetime.timedelta(days=PLAN_AFTER_DAYS):
             _release_plan(lot=lot, stock=stocks[lot.spec.glass.name], engineer=engineer)
@@ -142,14 +186,14 @@ def _release_plan(*, lot, stock: WitnessStock, engineer) -> None:
             return
         needed = sum(s.pieces_needed for s in draft.sequences.all()) - lot.pieces.count()
         if needed > 0:
-            lot_services.witness_pieces_allocate(actor=engineer, lot=lot, stock=stock,
-                                                 count=needed)
+            lot_services.witness_pieces_allocate(actor=engineer, lot=lot, stock=stock, count=needed)
         plan_services.plan_pieces_assign(actor=engineer, plan=draft)
         plan_services.plan_release(actor=engineer, plan=draft, review_items_acknowledged=True)
 
 
-def _spec_fields(index: int, rng: random.Random, design: CoatingDesign,
-                 glass: Glass) -> dict[str, object]:
+def _spec_fields(
+    index: int, rng: random.Random, design: CoatingDesign, glass: Glass
+) -> dict[str, object]:
     """A coating spec as an invented drawing states it; some leave essentials out on purpose."""
     fields: dict[str, object] = {
         "title": scenario.PARTS[design.code][0],
@@ -158,80 +202,158 @@ def _spec_fields(index: int, rng: random.Random, design: CoatingDesign,
         "sides_coated": 2 if design.coating_type.endswith("_ar") else 1,
     }
     if design.coating_type in {"single_layer_ar", "multilayer_ar"}:
-        fields.update(wavelength_min_nm=Decimal("400"), wavelength_max_nm=Decimal("700"),
-                      quantity="R", statistic="average", limit_max_pct=Decimal("0.5"),
-                      aoi_min_deg=Decimal("0"), aoi_max_deg=Decimal("15"))
+        fields.update(
+            wavelength_min_nm=Decimal("400"),
+            wavelength_max_nm=Decimal("700"),
+            quantity="R",
+            statistic="average",
+            limit_max_pct=Decimal("0.5"),
+            aoi_min_deg=Decimal("0"),
+            aoi_max_deg=Decimal("15"),
+        )
     elif design.coating_type in {"metal_mirror", "protected_metal_mirror"}:
-        fields.update(wavelength_min_nm=Decimal("450"), wavelength_max_nm=Decimal("650"),
-                      quantity="R", statistic="average", limit_min_pct=Decimal("87"),
-                      aoi_min_deg=Decimal("40"), aoi_max_deg=Decimal("50"))
+        fields.update(
+            wavelength_min_nm=Decimal("450"),
+            wavelength_max_nm=Decimal("650"),
+            quantity="R",
+            statistic="average",
+            limit_min_pct=Decimal("87"),
+            aoi_min_deg=Decimal("40"),
+            aoi_max_deg=Decimal("50"),
+        )
     elif design.code == "HR-1064":
-        fields.update(wavelength_min_nm=Decimal("1054"), wavelength_max_nm=Decimal("1074"),
-                      quantity="R", statistic="absolute", limit_min_pct=Decimal("99.5"),
-                      aoi_min_deg=Decimal("45"), aoi_max_deg=Decimal("45"), polarization="s",
-                      laser_damage="certification at 10 J/cm², 10 ns, 1064 nm")
+        fields.update(
+            wavelength_min_nm=Decimal("1054"),
+            wavelength_max_nm=Decimal("1074"),
+            quantity="R",
+            statistic="absolute",
+            limit_min_pct=Decimal("99.5"),
+            aoi_min_deg=Decimal("45"),
+            aoi_max_deg=Decimal("45"),
+            polarization="s",
+            laser_damage="certification at 10 J/cm², 10 ns, 1064 nm",
+        )
     elif design.code == "BS-5050":
-        fields.update(wavelength_min_nm=Decimal("500"), wavelength_max_nm=Decimal("700"),
-                      quantity="T", statistic="average", limit_min_pct=Decimal("45"),
-                      limit_max_pct=Decimal("55"), aoi_min_deg=Decimal("45"),
-                      aoi_max_deg=Decimal("45"))
+        fields.update(
+            wavelength_min_nm=Decimal("500"),
+            wavelength_max_nm=Decimal("700"),
+            quantity="T",
+            statistic="average",
+            limit_min_pct=Decimal("45"),
+            limit_max_pct=Decimal("55"),
+            aoi_min_deg=Decimal("45"),
+            aoi_max_deg=Decimal("45"),
+        )
     else:
-        fields.update(wavelength_min_nm=Decimal("660"), wavelength_max_nm=Decimal("900"),
-                      quantity="T", statistic="average", limit_min_pct=Decimal("90"),
-                      aoi_min_deg=Decimal("0"), aoi_max_deg=Decimal("20"))
+        fields.update(
+            wavelength_min_nm=Decimal("660"),
+            wavelength_max_nm=Decimal("900"),
+            quantity="T",
+            statistic="average",
+            limit_min_pct=Decimal("90"),
+            aoi_min_deg=Decimal("0"),
+            aoi_max_deg=Decimal("20"),
+        )
     if index % 3 != 1:
         fields["clear_aperture_mm"] = Decimal(rng.choice(["18", "22.5", "36", "45"]))
     if index % 4 == 0:
-        fields.update(witness_requirement="two witness pieces per run",
-                      documentation="certificate of conformance", marking="none",
-                      packaging="lens tissue and foam box")
+        fields.update(
+            witness_requirement="two witness pieces per run",
+            documentation="certificate of conformance",
+            marking="none",
+            packaging="lens tissue and foam box",
+        )
     if index % 5 == 2:
         fields.pop("aoi_min_deg", None)
         fields.pop("aoi_max_deg", None)
     return fields
 
 
-def _order_and_lot(*, index: int, rng: random.Random, received: datetime.date, customer,
-                   design: CoatingDesign, glass: Glass, coater: Coater, stock: WitnessStock,
-                   engineer, technician):
+def _order_and_lot(
+    *,
+    index: int,
+    rng: random.Random,
+    received: datetime.date,
+    customer,
+    design: CoatingDesign,
+    glass: Glass,
+    coater: Coater,
+    stock: WitnessStock,
+    engineer,
+    technician,
+):
     number = f"SO-{received:%y}-{index + 101:03d}"
     with clock.frozen_at(_at(received, 10)):
         order = order_services.order_create(
-            actor=engineer, customer=customer, number=number,
+            actor=engineer,
+            customer=customer,
+            number=number,
             customer_order_number=f"PO-{customer.code}-{4100 + index * 3}",
-            received_on=received, due_date=received + datetime.timedelta(days=rng.choice([21, 28, 35])))
+            received_on=received,
+            due_date=received + datetime.timedelta(days=rng.choice([21, 28, 35])),
+        )
         stem = scenario.PARTS[design.code][1]
         spec = order_services.coating_spec_create(
-            actor=engineer, order=order, part_number=f"{stem}{2000 + index * 11}",
-            **_spec_fields(index, rng, design, glass))
+            actor=engineer,
+            order=order,
+            part_number=f"{stem}{2000 + index * 11}",
+            **_spec_fields(index, rng, design, glass),
+        )
     run_date = received + datetime.timedelta(days=rng.choice([2, 3, 4]))
     with clock.frozen_at(_at(run_date, 16)):
         lot = lot_services.lot_create(
-            actor=engineer, order=order, spec=spec, number=f"L{run_date:%y}-{index + 1:04d}",
-            design=design, coater=coater, run_date=run_date,
-            parts=f"{spec.title}, part {spec.part_number}", quantity=rng.choice([6, 12, 24, 40]),
-            received_on=run_date)
+            actor=engineer,
+            order=order,
+            spec=spec,
+            number=f"L{run_date:%y}-{index + 1:04d}",
+            design=design,
+            coater=coater,
+            run_date=run_date,
+            parts=f"{spec.title}, part {spec.part_number}",
+            quantity=rng.choice([6, 12, 24, 40]),
+            received_on=run_date,
+        )
         pieces = lot_services.witness_pieces_allocate(
-            actor=engineer, lot=lot, stock=stock, count=rng.choice([3, 4, 5, 6]),
-            positions=["dome ring 1", "dome ring 2", "dome ring 3", "centre", "edge", "ring 2 b"])
+            actor=engineer,
+            lot=lot,
+            stock=stock,
+            count=rng.choice([3, 4, 5, 6]),
+            positions=["dome ring 1", "dome ring 2", "dome ring 3", "centre", "edge", "ring 2 b"],
+        )
     inspected = run_date + datetime.timedelta(days=1)
     if inspected < timezone.localdate():
         for piece in pieces:
             with clock.frozen_at(_at(inspected, 9, 30)):
                 observation_services.observation_record(
-                    actor=technician, piece=piece, point="initial",
-                    observed_at=_at(inspected, 9, 15), no_defects=True,
-                    lighting="dark-field, 1000 lx", background="matte black",
-                    magnification="unaided eye")
+                    actor=technician,
+                    piece=piece,
+                    point="initial",
+                    observed_at=_at(inspected, 9, 15),
+                    no_defects=True,
+                    lighting="dark-field, 1000 lx",
+                    background="matte black",
+                    magnification="unaided eye",
+                )
     if index == 3 and inspected < timezone.localdate():
         first = pieces[0].observations.get()
         with clock.frozen_at(_at(inspected, 14)):
             observation_services.observation_correct(
-                actor=technician, revision=first,
+                actor=technician,
+                revision=first,
                 reason="a small stain near the edge was missed at the first look",
                 no_defects=False,
-                defects=[{"defect": "stain_discoloration", "zone": "edge, 2 o'clock",
-                          "extent": "about 1 mm", "quantity": 1, "size": 1, "intensity": 1}],
-                lighting=first.lighting, background=first.background,
-                magnification=first.magnification)
+                defects=[
+                    {
+                        "defect": "stain_discoloration",
+                        "zone": "edge, 2 o'clock",
+                        "extent": "about 1 mm",
+                        "quantity": 1,
+                        "size": 1,
+                        "intensity": 1,
+                    }
+                ],
+                lighting=first.lighting,
+                background=first.background,
+                magnification=first.magnification,
+            )
     return lot

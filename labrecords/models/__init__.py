@@ -8,12 +8,29 @@ from labrecords.models.chambers import (
     ExposureCheck,
 )
 from labrecords.models.custody import CalendarFeedToken, CustodyEvent, PlaceKind
+from labrecords.models.customers import Customer, CustomerUser
 from labrecords.models.evidence import Evidence, EvidenceKind
+from labrecords.models.lots import (
+    Lot,
+    LotStage,
+    PieceStatus,
+    StockMovement,
+    WitnessPiece,
+)
 from labrecords.models.nonconformances import (
     Disposition,
     InstrumentDeviation,
     Nonconformance,
     NonconformanceKind,
+)
+from labrecords.models.observations import InspectionPoint, Observation
+from labrecords.models.orders import (
+    CoatingSpec,
+    DecisionRule,
+    Order,
+    Polarization,
+    Quantity,
+    Statistic,
 )
 from labrecords.models.plans import PlanSequence, PlanStatus, PlanStep, SequencePiece, TestPlan
 from labrecords.models.reports import (
@@ -30,23 +47,6 @@ from labrecords.models.results import (
     StepResultConsumable,
     StepResultInstrument,
     Verdict,
-)
-from labrecords.models.customers import Customer, CustomerUser
-from labrecords.models.lots import (
-    Lot,
-    LotStage,
-    PieceStatus,
-    StockMovement,
-    WitnessPiece,
-)
-from labrecords.models.observations import InspectionPoint, Observation
-from labrecords.models.orders import (
-    CoatingSpec,
-    DecisionRule,
-    Order,
-    Polarization,
-    Quantity,
-    Statistic,
 )
 from labrecords.models.revisions import ImmutableRecordError
 

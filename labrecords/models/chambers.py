@@ -12,24 +12,34 @@ class ChamberRunQuerySet(models.QuerySet):
         """Lab staff see every run; a customer sees runs holding one of its pieces."""
         from labrecords.access import customer_filter
 
-        return self.filter(customer_filter(user, "pieces__piece__lot__order__customer_id")).distinct()
+        return self.filter(
+            customer_filter(user, "pieces__piece__lot__order__customer_id")
+        ).distinct()
 
 
 class ChamberRun(models.Model):
     """One exposure of a group of pieces under one condition, loaded and unloaded together."""
 
     ident = models.CharField(max_length=30, unique=True)
-    chamber = models.ForeignKey("durability.Instrument", on_delete=models.PROTECT,
-                                related_name="chamber_runs")
-    logger = models.ForeignKey("durability.Instrument", null=True, blank=True,
-                               on_delete=models.PROTECT, related_name="logged_runs")
-    method_version = models.ForeignKey("durability.MethodVersion", on_delete=models.PROTECT,
-                                       related_name="+")
+    chamber = models.ForeignKey(
+        "durability.Instrument", on_delete=models.PROTECT, related_name="chamber_runs"
+    )
+    logger = models.ForeignKey(
+        "durability.Instrument",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="logged_runs",
+    )
+    method_version = models.ForeignKey(
+        "durability.MethodVersion", on_delete=models.PROTECT, related_name="+"
+    )
     condition = models.CharField(max_length=120)
     loaded_at = models.DateTimeField()
     unloaded_at = models.DateTimeField(null=True, blank=True)
-    loaded_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                  related_name="+")
+    loaded_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
 
     objects = ChamberRunQuerySet.as_manager()
 
@@ -48,8 +58,9 @@ class ChamberRun(models.Model):
 
 class ChamberRunPiece(AppendOnlyModel):
     run = models.ForeignKey(ChamberRun, on_delete=models.PROTECT, related_name="pieces")
-    piece = models.ForeignKey("labrecords.WitnessPiece", on_delete=models.PROTECT,
-                              related_name="chamber_runs")
+    piece = models.ForeignKey(
+        "labrecords.WitnessPiece", on_delete=models.PROTECT, related_name="chamber_runs"
+    )
     step_key = models.UUIDField()
 
     objects = AppendOnlyQuerySet.as_manager()
@@ -68,8 +79,9 @@ class ExposureCheck(AppendOnlyModel):
     counts = models.BooleanField()
     convention = models.CharField(max_length=20)
     summary = models.JSONField(default=dict)
-    checked_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                   related_name="+")
+    checked_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
     checked_at = models.DateTimeField()
 
     objects = AppendOnlyQuerySet.as_manager()
@@ -115,18 +127,25 @@ class Consumable(models.Model):
 class ConsumableCheck(AppendOnlyModel):
     """A salt fog cabinet's collection-rate or pH check, or a solution's concentration check."""
 
-    run = models.ForeignKey(ChamberRun, null=True, blank=True, on_delete=models.PROTECT,
-                            related_name="consumable_checks")
-    consumable = models.ForeignKey(Consumable, null=True, blank=True, on_delete=models.PROTECT,
-                                   related_name="checks")
+    run = models.ForeignKey(
+        ChamberRun,
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="consumable_checks",
+    )
+    consumable = models.ForeignKey(
+        Consumable, null=True, blank=True, on_delete=models.PROTECT, related_name="checks"
+    )
     quantity = models.CharField(max_length=30, help_text="collection rate, pH, concentration")
     value = models.DecimalField(max_digits=8, decimal_places=3)
     unit = models.CharField(max_length=30, blank=True)
     low = models.DecimalField(max_digits=8, decimal_places=3, null=True, blank=True)
     high = models.DecimalField(max_digits=8, decimal_places=3, null=True, blank=True)
     within_limits = models.BooleanField()
-    checked_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                   related_name="+")
+    checked_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
     checked_at = models.DateTimeField()
 
     objects = AppendOnlyQuerySet.as_manager()

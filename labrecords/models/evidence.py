@@ -27,13 +27,24 @@ class EvidenceQuerySet(AppendOnlyQuerySet):
 
 class Evidence(AppendOnlyModel):
     kind = models.CharField(max_length=16, choices=EvidenceKind.choices)
-    lot = models.ForeignKey("labrecords.Lot", on_delete=models.PROTECT, related_name="evidence",
-                            null=True, blank=True)
-    piece = models.ForeignKey("labrecords.WitnessPiece", null=True, blank=True,
-                              on_delete=models.PROTECT, related_name="evidence")
+    lot = models.ForeignKey(
+        "labrecords.Lot", on_delete=models.PROTECT, related_name="evidence", null=True, blank=True
+    )
+    piece = models.ForeignKey(
+        "labrecords.WitnessPiece",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="evidence",
+    )
     step_key = models.UUIDField(null=True, blank=True, db_index=True)
-    chamber_run = models.ForeignKey("labrecords.ChamberRun", null=True, blank=True,
-                                    on_delete=models.PROTECT, related_name="evidence")
+    chamber_run = models.ForeignKey(
+        "labrecords.ChamberRun",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="evidence",
+    )
     stage = models.CharField(max_length=10, blank=True, help_text="before or after a test")
     file = models.FileField(upload_to="evidence/")
     sha256 = models.CharField(max_length=64)
@@ -42,8 +53,9 @@ class Evidence(AppendOnlyModel):
     size = models.PositiveIntegerField()
     summary = models.JSONField(default=dict, blank=True, help_text="what the import computed")
     note = models.CharField(max_length=200, blank=True)
-    uploaded_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                    related_name="+")
+    uploaded_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
     uploaded_at = models.DateTimeField()
 
     objects = EvidenceQuerySet.as_manager()

@@ -30,7 +30,9 @@ class Lot(models.Model):
 
     number = models.CharField(max_length=24, unique=True)
     order = models.ForeignKey("labrecords.Order", on_delete=models.PROTECT, related_name="lots")
-    spec = models.ForeignKey("labrecords.CoatingSpec", on_delete=models.PROTECT, related_name="lots")
+    spec = models.ForeignKey(
+        "labrecords.CoatingSpec", on_delete=models.PROTECT, related_name="lots"
+    )
     design = models.ForeignKey(CoatingDesign, on_delete=models.PROTECT, related_name="lots")
     coater = models.ForeignKey(Coater, on_delete=models.PROTECT, related_name="lots")
     run_date = models.DateField()
@@ -44,7 +46,9 @@ class Lot(models.Model):
     class Meta:
         ordering = ["-run_date", "number"]
         constraints = [
-            models.CheckConstraint(condition=models.Q(quantity__gte=1), name="lot_quantity_positive")
+            models.CheckConstraint(
+                condition=models.Q(quantity__gte=1), name="lot_quantity_positive"
+            )
         ]
 
     def __str__(self) -> str:

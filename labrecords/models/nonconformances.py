@@ -30,21 +30,34 @@ class NonconformanceQuerySet(models.QuerySet):
 class Nonconformance(models.Model):
     number = models.CharField(max_length=20, unique=True)
     kind = models.CharField(max_length=16, choices=NonconformanceKind.choices)
-    lot = models.ForeignKey("labrecords.Lot", on_delete=models.PROTECT,
-                            related_name="nonconformances")
-    result = models.ForeignKey("labrecords.StepResult", null=True, blank=True,
-                               on_delete=models.PROTECT, related_name="nonconformances")
-    report = models.ForeignKey("labrecords.Report", null=True, blank=True,
-                               on_delete=models.PROTECT, related_name="nonconformances")
+    lot = models.ForeignKey(
+        "labrecords.Lot", on_delete=models.PROTECT, related_name="nonconformances"
+    )
+    result = models.ForeignKey(
+        "labrecords.StepResult",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="nonconformances",
+    )
+    report = models.ForeignKey(
+        "labrecords.Report",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="nonconformances",
+    )
     description = models.TextField()
-    opened_by = models.ForeignKey(settings.AUTH_USER_MODEL, null=True, on_delete=models.PROTECT,
-                                  related_name="+")
+    opened_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, on_delete=models.PROTECT, related_name="+"
+    )
     opened_at = models.DateTimeField()
     disposition = models.CharField(max_length=12, choices=Disposition.choices, blank=True)
     disposition_note = models.TextField(blank=True)
     customer_agreement_ref = models.CharField(max_length=120, blank=True)
-    disposed_by = models.ForeignKey(settings.AUTH_USER_MODEL, null=True, blank=True,
-                                    on_delete=models.PROTECT, related_name="+")
+    disposed_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.PROTECT, related_name="+"
+    )
     disposed_at = models.DateTimeField(null=True, blank=True)
 
     objects = NonconformanceQuerySet.as_manager()
@@ -53,7 +66,8 @@ class Nonconformance(models.Model):
         ordering = ["-opened_at"]
         constraints = [
             models.CheckConstraint(
-                condition=~models.Q(disposition="concession") | ~models.Q(customer_agreement_ref=""),
+                condition=~models.Q(disposition="concession")
+                | ~models.Q(customer_agreement_ref=""),
                 name="concession_names_customer_agreement",
             )
         ]
@@ -65,12 +79,14 @@ class Nonconformance(models.Model):
 class InstrumentDeviation(AppendOnlyModel):
     """An instrument or chamber sensor found out of tolerance since a date."""
 
-    instrument = models.ForeignKey("durability.Instrument", on_delete=models.PROTECT,
-                                   related_name="deviations")
+    instrument = models.ForeignKey(
+        "durability.Instrument", on_delete=models.PROTECT, related_name="deviations"
+    )
     since = models.DateField()
     description = models.TextField()
-    found_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                 related_name="+")
+    found_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
     found_at = models.DateTimeField()
 
     objects = AppendOnlyQuerySet.as_manager()

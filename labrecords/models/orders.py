@@ -17,7 +17,9 @@ class OrderQuerySet(models.QuerySet):
 
 
 class Order(models.Model):
-    customer = models.ForeignKey("labrecords.Customer", on_delete=models.PROTECT, related_name="orders")
+    customer = models.ForeignKey(
+        "labrecords.Customer", on_delete=models.PROTECT, related_name="orders"
+    )
     number = models.CharField("lab order number", max_length=24, unique=True)
     customer_order_number = models.CharField(max_length=60)
     received_on = models.DateField()

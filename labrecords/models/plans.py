@@ -67,8 +67,9 @@ class TestPlan(models.Model):
             models.UniqueConstraint(fields=["lot", "number"], name="test_plan_revision_unique"),
             models.CheckConstraint(
                 condition=Q(status=PlanStatus.DRAFT, released_at__isnull=True)
-                | Q(status=PlanStatus.RELEASED, released_at__isnull=False,
-                    released_by__isnull=False),
+                | Q(
+                    status=PlanStatus.RELEASED, released_at__isnull=False, released_by__isnull=False
+                ),
                 name="test_plan_release_recorded",
             ),
             models.CheckConstraint(
@@ -91,7 +92,9 @@ class PlanSequence(models.Model):
     class Meta:
         ordering = ["plan", "position"]
         constraints = [
-            models.UniqueConstraint(fields=["plan", "position"], name="plan_sequence_position_unique")
+            models.UniqueConstraint(
+                fields=["plan", "position"], name="plan_sequence_position_unique"
+            )
         ]
 
     def __str__(self) -> str:
@@ -117,14 +120,16 @@ class PlanStep(models.Model):
     destructive = models.BooleanField(default=False)
     wait_hours_before = models.DecimalField(max_digits=7, decimal_places=2, default=0)
     wait_reason = models.CharField(max_length=200, blank=True)
-    hours = models.DecimalField(
-        "expected duration (h)", max_digits=7, decimal_places=2, default=0
-    )
+    hours = models.DecimalField("expected duration (h)", max_digits=7, decimal_places=2, default=0)
     severity = models.CharField(max_length=4, blank=True)
     state = models.CharField(max_length=2, blank=True)
     note = models.TextField(blank=True)
     retest_of = models.ForeignKey(
-        "self", null=True, blank=True, on_delete=models.PROTECT, related_name="retests",
+        "self",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="retests",
         help_text="the step this one repeats on new pieces",
     )
 

@@ -15,8 +15,9 @@ from labrecords.models.revisions import AppendOnlyModel, AppendOnlyQuerySet
 
 class Review(AppendOnlyModel):
     lot = models.ForeignKey("labrecords.Lot", on_delete=models.PROTECT, related_name="reviews")
-    reviewer = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                 related_name="+")
+    reviewer = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
     reviewed_at = models.DateTimeField()
     comment = models.TextField(blank=True)
 
@@ -28,8 +29,9 @@ class Review(AppendOnlyModel):
 
 class ReviewedResult(AppendOnlyModel):
     review = models.ForeignKey(Review, on_delete=models.PROTECT, related_name="covered")
-    result = models.ForeignKey("labrecords.StepResult", on_delete=models.PROTECT,
-                               related_name="reviews")
+    result = models.ForeignKey(
+        "labrecords.StepResult", on_delete=models.PROTECT, related_name="reviews"
+    )
 
     objects = AppendOnlyQuerySet.as_manager()
 
@@ -49,25 +51,34 @@ class SignatureMeaning(models.TextChoices):
 class Signature(AppendOnlyModel):
     """An electronic signature: printed name, date and time with zone, and meaning."""
 
-    signer = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                               related_name="signatures")
+    signer = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="signatures"
+    )
     printed_name = models.CharField(max_length=150)
     role = models.CharField(max_length=40)
     meaning = models.CharField(max_length=16, choices=SignatureMeaning.choices)
     signed_at = models.DateTimeField()
     time_zone = models.CharField(max_length=60)
-    review = models.ForeignKey(Review, null=True, blank=True, on_delete=models.PROTECT,
-                               related_name="signatures")
-    report = models.ForeignKey("labrecords.Report", null=True, blank=True,
-                               on_delete=models.PROTECT, related_name="signatures")
+    review = models.ForeignKey(
+        Review, null=True, blank=True, on_delete=models.PROTECT, related_name="signatures"
+    )
+    report = models.ForeignKey(
+        "labrecords.Report",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
+        related_name="signatures",
+    )
 
     objects = AppendOnlyQuerySet.as_manager()
 
     class Meta:
         ordering = ["signed_at"]
         constraints = [
-            models.CheckConstraint(condition=Q(review__isnull=False) | Q(report__isnull=False),
-                                   name="signature_signs_something")
+            models.CheckConstraint(
+                condition=Q(review__isnull=False) | Q(report__isnull=False),
+                name="signature_signs_something",
+            )
         ]
 
 
@@ -89,14 +100,17 @@ class Report(AppendOnlyModel):
     kind = models.CharField(max_length=10, choices=ReportKind.choices)
     lot = models.ForeignKey("labrecords.Lot", on_delete=models.PROTECT, related_name="reports")
     review = models.ForeignKey(Review, on_delete=models.PROTECT, related_name="reports")
-    amends = models.ForeignKey("self", null=True, blank=True, on_delete=models.PROTECT,
-                               related_name="amendments")
-    replaces = models.OneToOneField("self", null=True, blank=True, on_delete=models.PROTECT,
-                                    related_name="replaced_by")
+    amends = models.ForeignKey(
+        "self", null=True, blank=True, on_delete=models.PROTECT, related_name="amendments"
+    )
+    replaces = models.OneToOneField(
+        "self", null=True, blank=True, on_delete=models.PROTECT, related_name="replaced_by"
+    )
     change_description = models.TextField(blank=True, help_text="what changed and why")
     decision_rule = models.CharField(max_length=12)
-    issued_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.PROTECT,
-                                  related_name="+")
+    issued_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
     issued_at = models.DateTimeField()
     pdf = models.FileField(upload_to="reports/")
     sha256 = models.CharField(max_length=64)

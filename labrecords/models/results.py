@@ -19,7 +19,9 @@ class Verdict(models.TextChoices):
 
 
 class StepResult(RevisionModel):
-    step = models.ForeignKey("labrecords.PlanStep", on_delete=models.PROTECT, related_name="results")
+    step = models.ForeignKey(
+        "labrecords.PlanStep", on_delete=models.PROTECT, related_name="results"
+    )
     step_key = models.UUIDField(db_index=True)
     piece = models.ForeignKey(
         "labrecords.WitnessPiece", on_delete=models.PROTECT, related_name="results"
@@ -29,7 +31,10 @@ class StepResult(RevisionModel):
         "labrecords.Observation", null=True, blank=True, on_delete=models.PROTECT, related_name="+"
     )
     chamber_run = models.ForeignKey(
-        "labrecords.ChamberRun", null=True, blank=True, on_delete=models.PROTECT,
+        "labrecords.ChamberRun",
+        null=True,
+        blank=True,
+        on_delete=models.PROTECT,
         related_name="results",
     )
     verdict = models.CharField(max_length=8, choices=Verdict.choices)
@@ -54,7 +59,8 @@ class StepResult(RevisionModel):
             *RevisionModel.Meta.constraints,
             # Two people cannot both record the first result for one step on one piece.
             models.UniqueConstraint(
-                fields=["step_key", "piece"], condition=Q(number=1),
+                fields=["step_key", "piece"],
+                condition=Q(number=1),
                 name="step_result_first_revision_unique",
             ),
         ]
@@ -64,7 +70,9 @@ class StepResult(RevisionModel):
 
 
 class StepResultInstrument(AppendOnlyModel):
-    result = models.ForeignKey(StepResult, on_delete=models.PROTECT, related_name="instrument_links")
+    result = models.ForeignKey(
+        StepResult, on_delete=models.PROTECT, related_name="instrument_links"
+    )
     instrument = models.ForeignKey(
         "durability.Instrument", on_delete=models.PROTECT, related_name="result_links"
     )
@@ -79,7 +87,9 @@ class StepResultInstrument(AppendOnlyModel):
 
 
 class StepResultConsumable(AppendOnlyModel):
-    result = models.ForeignKey(StepResult, on_delete=models.PROTECT, related_name="consumable_links")
+    result = models.ForeignKey(
+        StepResult, on_delete=models.PROTECT, related_name="consumable_links"
+    )
     consumable = models.ForeignKey(
         "labrecords.Consumable", on_delete=models.PROTECT, related_name="result_links"
     )
@@ -113,7 +123,8 @@ class MethodAuthorisation(models.Model):
     class Meta:
         constraints = [
             models.UniqueConstraint(
-                fields=["user", "method"], condition=Q(revoked_at__isnull=True),
+                fields=["user", "method"],
+                condition=Q(revoked_at__isnull=True),
                 name="method_authorisation_one_active",
             )
         ]

@@ -77,5 +77,7 @@ def change_audited(
     obj.save()
     after = snapshot(obj)
     if before != after:
-        audit_record(actor=actor, action="change", obj=obj, before=before, after=after, reason=reason)
+        audit_record(
+            actor=actor, action="change", obj=obj, before=before, after=after, reason=reason
+        )
     return obj

@@ -10,17 +10,37 @@ from labrecords.services.audit import audit_record, create_audited
 
 
 @transaction.atomic
-def customer_create(*, actor, name: str, code: str, contact_name: str = "",
-                    contact_email: str = "", address: str = "") -> Customer:
+def customer_create(
+    *,
+    actor,
+    name: str,
+    code: str,
+    contact_name: str = "",
+    contact_email: str = "",
+    address: str = "",
+) -> Customer:
     """Register a customer organisation."""
-    customer = Customer(name=name, code=code, contact_name=contact_name,
-                        contact_email=contact_email, address=address)
+    customer = Customer(
+        name=name,
+        code=code,
+        contact_name=contact_name,
+        contact_email=contact_email,
+        address=address,
+    )
     return create_audited(actor=actor, obj=customer)
 
 
 @transaction.atomic
-def user_create(*, actor, username: str, password: str, full_name: str, roles: list[Role],
-                email: str = "", customer: Customer | None = None):
+def user_create(
+    *,
+    actor,
+    username: str,
+    password: str,
+    full_name: str,
+    roles: list[Role],
+    email: str = "",
+    customer: Customer | None = None,
+):
     """Create a login with its roles; a customer user is tied to one organisation."""
     if Role.CUSTOMER in roles and customer is None:
         raise ValueError("A customer user needs the customer organisation it belongs to.")
@@ -37,10 +57,15 @@ def user_create(*, actor, username: str, password: str, full_name: str, roles: l
     if customer is not None:
         CustomerUser.objects.create(user=user, customer=customer)
     audit_record(
-        actor=actor, action="create", obj=user,
-        after={"username": username, "full_name": full_name,
-               "roles": sorted(r.value for r in roles),
-               "customer": customer.pk if customer else None},
+        actor=actor,
+        action="create",
+        obj=user,
+        after={
+            "username": username,
+            "full_name": full_name,
+            "roles": sorted(r.value for r in roles),
+            "customer": customer.pk if customer else None,
+        },
     )
     return user
 

@@ -15,15 +15,34 @@ from labrecords.services.audit import change_audited, create_audited
 
 
 @transaction.atomic
-def lot_create(*, actor, order: Order, spec: CoatingSpec, number: str, design: CoatingDesign,
-               coater: Coater, run_date: datetime.date, parts: str, quantity: int,
-               received_on: datetime.date | None = None) -> Lot:
+def lot_create(
+    *,
+    actor,
+    order: Order,
+    spec: CoatingSpec,
+    number: str,
+    design: CoatingDesign,
+    coater: Coater,
+    run_date: datetime.date,
+    parts: str,
+    quantity: int,
+    received_on: datetime.date | None = None,
+) -> Lot:
     """Register one coating run of an order; it starts in the planned stage."""
     require_role(actor, Role.ENGINEER)
     if spec.order_id != order.pk:
         raise ValidationError({"spec": "The coating spec belongs to another order."})
-    lot = Lot(order=order, spec=spec, number=number, design=design, coater=coater,
-              run_date=run_date, parts=parts, quantity=quantity, received_on=received_on)
+    lot = Lot(
+        order=order,
+        spec=spec,
+        number=number,
+        design=design,
+        coater=coater,
+        run_date=run_date,
+        parts=parts,
+        quantity=quantity,
+        received_on=received_on,
+    )
     return create_audited(actor=actor, obj=lot)
 
 
@@ -48,8 +67,9 @@ def stock_receive(*, actor, stock: WitnessStock, count: int, note: str = "") -> 
 
 
 @transaction.atomic
-def witness_pieces_allocate(*, actor, lot: Lot, stock: WitnessStock, count: int,
-                            positions: list[str] | None = None) -> list[WitnessPiece]:
+def witness_pieces_allocate(
+    *, actor, lot: Lot, stock: WitnessStock, count: int, positions: list[str] | None = None
+) -> list[WitnessPiece]:
     """Take `count` pieces from stock for a lot: decrement the stock and create the pieces.
 
     A piece belongs to one lot. Refused when the shelf holds fewer than `count`.
@@ -66,15 +86,26 @@ def witness_pieces_allocate(*, actor, lot: Lot, stock: WitnessStock, count: int,
         )
     create_audited(
         actor=actor,
-        obj=StockMovement(stock=stock, delta=-count, lot=lot, note=f"allocated to lot {lot.number}",
-                          by=actor, at=clock.now()),
+        obj=StockMovement(
+            stock=stock,
+            delta=-count,
+            lot=lot,
+            note=f"allocated to lot {lot.number}",
+            by=actor,
+            at=clock.now(),
+        ),
     )
     existing = lot.pieces.count()
     pieces = []
     for index in range(count):
         position = positions[index] if positions and index < len(positions) else ""
-        piece = WitnessPiece(ident=f"{lot.number}-W{existing + index + 1:02d}", lot=lot,
-                             glass=stock.glass, stock=stock, position=position)
+        piece = WitnessPiece(
+            ident=f"{lot.number}-W{existing + index + 1:02d}",
+            lot=lot,
+            glass=stock.glass,
+            stock=stock,
+            position=position,
+        )
         pieces.append(create_audited(actor=actor, obj=piece))
     return pieces
 
@@ -84,7 +115,7 @@ def witness_piece_create(*, actor, lot: Lot, glass: Glass, position: str = "") -
     """Register a witness piece supplied with the lot (not from the lab's stock)."""
     require_role(actor, Role.ENGINEER, Role.TECHNICIAN)
     number = lot.pieces.count() + 1
-    piece = WitnessPiece(ident=f"{lot.number}-W{number:02d}", lot=lot, glass=glass,
-                         position=position)
+    piece = WitnessPiece(
+        ident=f"{lot.number}-W{number:02d}", lot=lot, glass=glass, position=position
+    )
     return create_audited(actor=actor, obj=piece)
-

@@ -15,8 +15,19 @@ from labrecords.roles import Role
 from labrecords.services.audit import audit_record, snapshot
 
 DEFECT_TYPES = (
-    "peeling", "flaking", "blistering", "cracking", "crazing", "haze", "stain_discoloration",
-    "spots", "pinholes", "scratches", "digs", "coating_removal", "delamination",
+    "peeling",
+    "flaking",
+    "blistering",
+    "cracking",
+    "crazing",
+    "haze",
+    "stain_discoloration",
+    "spots",
+    "pinholes",
+    "scratches",
+    "digs",
+    "coating_removal",
+    "delamination",
 )
 _GRADE_KEYS = ("quantity", "size", "intensity")
 
@@ -45,16 +56,21 @@ def _clean_defects(no_defects: bool, defects: Sequence[dict]) -> list[dict]:
         kind = defect.get("defect")
         if kind not in DEFECT_TYPES:
             raise ValidationError({"defects": f"Defect {index}: unknown defect type {kind!r}."})
-        row = {"defect": kind, "zone": str(defect.get("zone", "")),
-               "extent": str(defect.get("extent", ""))}
+        row = {
+            "defect": kind,
+            "zone": str(defect.get("zone", "")),
+            "extent": str(defect.get("extent", "")),
+        }
         for key in _GRADE_KEYS:
             grade = defect.get(key)
             if grade is None or grade == "":
                 continue
             if not isinstance(grade, int) or not 0 <= grade <= 5:
                 raise ValidationError(
-                    {"defects": f"Defect {index}: {key} grade must be a whole number 0 to 5 "
-                                "(ISO 4628-1 style scale)."}
+                    {
+                        "defects": f"Defect {index}: {key} grade must be a whole number 0 to 5 "
+                        "(ISO 4628-1 style scale)."
+                    }
                 )
             row[key] = grade
         cleaned.append(row)
@@ -67,18 +83,34 @@ def _check_observed_at(observed_at: datetime.datetime, now: datetime.datetime) -
 
 
 @transaction.atomic
-def observation_record(*, actor, piece: WitnessPiece, point: str, observed_at: datetime.datetime,
-                       no_defects: bool, defects: Sequence[dict] = (), lighting: str = "",
-                       background: str = "", magnification: str = "",
-                       notes: str = "") -> Observation:
+def observation_record(
+    *,
+    actor,
+    piece: WitnessPiece,
+    point: str,
+    observed_at: datetime.datetime,
+    no_defects: bool,
+    defects: Sequence[dict] = (),
+    lighting: str = "",
+    background: str = "",
+    magnification: str = "",
+    notes: str = "",
+) -> Observation:
     """Record a new inspection of a witness piece (revision 1 of a new record)."""
     require_role(actor, Role.TECHNICIAN, Role.ENGINEER)
     now = clock.now()
     _check_observed_at(observed_at, now)
     observation = Observation(
-        piece=piece, point=point, no_defects=no_defects,
-        defects=_clean_defects(no_defects, defects), lighting=lighting, background=background,
-        magnification=magnification, notes=notes, recorded_by=actor, recorded_at=now,
+        piece=piece,
+        point=point,
+        no_defects=no_defects,
+        defects=_clean_defects(no_defects, defects),
+        lighting=lighting,
+        background=background,
+        magnification=magnification,
+        notes=notes,
+        recorded_by=actor,
+        recorded_at=now,
         observed_at=observed_at,
     )
     observation.full_clean()
@@ -88,11 +120,19 @@ def observation_record(*, actor, piece: WitnessPiece, point: str, observed_at: d
 
 
 @transaction.atomic
-def observation_correct(*, actor, revision: Observation, reason: str,
-                        observed_at: datetime.datetime | None = None,
-                        no_defects: bool, defects: Sequence[dict] = (), lighting: str = "",
-                        background: str = "", magnification: str = "",
-                        notes: str = "") -> Observation:
+def observation_correct(
+    *,
+    actor,
+    revision: Observation,
+    reason: str,
+    observed_at: datetime.datetime | None = None,
+    no_defects: bool,
+    defects: Sequence[dict] = (),
+    lighting: str = "",
+    background: str = "",
+    magnification: str = "",
+    notes: str = "",
+) -> Observation:
     """Correct an observation: a new revision naming the one it supersedes.
 
     The earlier revision stays as it was. Refused with StaleRevisionError when
@@ -105,11 +145,21 @@ def observation_correct(*, actor, revision: Observation, reason: str,
     observed_at = observed_at or revision.observed_at
     _check_observed_at(observed_at, now)
     correction = Observation(
-        record_key=revision.record_key, number=revision.number + 1, supersedes=revision,
-        piece=revision.piece, point=revision.point, no_defects=no_defects,
-        defects=_clean_defects(no_defects, defects), lighting=lighting, background=background,
-        magnification=magnification, notes=notes, recorded_by=actor, recorded_at=now,
-        observed_at=observed_at, reason=reason,
+        record_key=revision.record_key,
+        number=revision.number + 1,
+        supersedes=revision,
+        piece=revision.piece,
+        point=revision.point,
+        no_defects=no_defects,
+        defects=_clean_defects(no_defects, defects),
+        lighting=lighting,
+        background=background,
+        magnification=magnification,
+        notes=notes,
+        recorded_by=actor,
+        recorded_at=now,
+        observed_at=observed_at,
+        reason=reason,
     )
     correction.full_clean(validate_unique=False, validate_constraints=False)
     try:
@@ -118,6 +168,12 @@ def observation_correct(*, actor, revision: Observation, reason: str,
     except IntegrityError:
         current = Observation.objects.current().get(record_key=revision.record_key)
         raise StaleRevisionError(current) from None
-    audit_record(actor=actor, action="correct", obj=correction, before=snapshot(revision),
-                 after=snapshot(correction), reason=reason)
+    audit_record(
+        actor=actor,
+        action="correct",
+        obj=correction,
+        before=snapshot(revision),
+        after=snapshot(correction),
+        reason=reason,
+    )
     return correction

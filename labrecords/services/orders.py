@@ -11,22 +11,52 @@ from labrecords.roles import Role
 from labrecords.services.audit import change_audited, create_audited
 
 SPEC_FIELDS = (
-    "part_number", "title", "glass", "wavelength_min_nm", "wavelength_max_nm", "quantity",
-    "statistic", "limit_min_pct", "limit_max_pct", "aoi_min_deg", "aoi_max_deg", "polarization",
-    "clear_aperture_mm", "sides_coated", "callout_text", "laser_damage", "witness_requirement",
-    "documentation", "marking", "packaging",
+    "part_number",
+    "title",
+    "glass",
+    "wavelength_min_nm",
+    "wavelength_max_nm",
+    "quantity",
+    "statistic",
+    "limit_min_pct",
+    "limit_max_pct",
+    "aoi_min_deg",
+    "aoi_max_deg",
+    "polarization",
+    "clear_aperture_mm",
+    "sides_coated",
+    "callout_text",
+    "laser_damage",
+    "witness_requirement",
+    "documentation",
+    "marking",
+    "packaging",
 )
 
 
 @transaction.atomic
-def order_create(*, actor, customer: Customer, number: str, customer_order_number: str,
-                 received_on: datetime.date, due_date: datetime.date | None = None,
-                 decision_rule: str = "simple", note: str = "") -> Order:
+def order_create(
+    *,
+    actor,
+    customer: Customer,
+    number: str,
+    customer_order_number: str,
+    received_on: datetime.date,
+    due_date: datetime.date | None = None,
+    decision_rule: str = "simple",
+    note: str = "",
+) -> Order:
     """Register a customer's order."""
     require_role(actor, Role.ENGINEER, Role.ADMINISTRATOR, Role.QUALITY_MANAGER)
-    order = Order(customer=customer, number=number, customer_order_number=customer_order_number,
-                  received_on=received_on, due_date=due_date, decision_rule=decision_rule,
-                  note=note)
+    order = Order(
+        customer=customer,
+        number=number,
+        customer_order_number=customer_order_number,
+        received_on=received_on,
+        due_date=due_date,
+        decision_rule=decision_rule,
+        note=note,
+    )
     return create_audited(actor=actor, obj=order)
 
 

@@ -35,32 +35,49 @@ from labrecords.services.audit import audit_record, snapshot
 def catalogue_from_database() -> tuple[Catalogue, dict[str, MethodVersion]]:
     """The catalogue as the planner sees it: every method's current version."""
     versions: dict[str, MethodVersion] = {}
-    for version in (
-        MethodVersion.objects.select_related("method__standard").order_by("method", "-number")
+    for version in MethodVersion.objects.select_related("method__standard").order_by(
+        "method", "-number"
     ):
         versions.setdefault(version.method.code, version)
     standards = [
-        {"designation": s.designation, "edition": s.edition, "title": s.title,
-         "status": s.status, "note": s.note}
-        for s in {v.method.standard.designation: v.method.standard for v in versions.values()}
-        .values()
+        {
+            "designation": s.designation,
+            "edition": s.edition,
+            "title": s.title,
+            "status": s.status,
+            "note": s.note,
+        }
+        for s in {
+            v.method.standard.designation: v.method.standard for v in versions.values()
+        }.values()
     ]
     methods = []
     for code, version in versions.items():
         method = version.method
         entry = version_as_entry(version)
         entry["parameters"] = {
-            name: {key: spec[key] for key in ("value", "unit", "status", "placeholder", "note")
-                   if key in spec}
+            name: {
+                key: spec[key]
+                for key in ("value", "unit", "status", "placeholder", "note")
+                if key in spec
+            }
             for name, spec in entry["parameters"].items()
         }
-        methods.append({
-            "code": code, "standard": method.standard.designation, "clause": method.clause,
-            "name": method.name, "kind": method.kind, "test_key": method.test_key or None,
-            **entry,
-        })
-    return parse_catalogue({"schema": 1, "standards": standards, "methods": methods},
-                           source="the catalogue in the database"), versions
+        methods.append(
+            {
+                "code": code,
+                "standard": method.standard.designation,
+                "clause": method.clause,
+                "name": method.name,
+                "kind": method.kind,
+                "test_key": method.test_key or None,
+                **entry,
+            }
+        )
+    return parse_catalogue(
+        {"schema": 1, "standards": standards, "methods": methods},
+        source="the catalogue in the database",
+    ), versions
 
 
 def _spectral_limits(lot: Lot) -> list[dict[str, Any]]:
@@ -73,9 +90,14 @@ def _spectral_limits(lot: Lot) -> list[dict[str, Any]]:
         if bound is None:
             continue
         stat = statistic or ("maximum" if key == "max" else "minimum")
-        row = {"band_nm": [float(spec.wavelength_min_nm), float(spec.wavelength_max_nm)],
-               "quantity": spec.quantity, "statistic": stat, "max": None, "min": None,
-               "unit": "%"}
+        row = {
+            "band_nm": [float(spec.wavelength_min_nm), float(spec.wavelength_max_nm)],
+            "quantity": spec.quantity,
+            "statistic": stat,
+            "max": None,
+            "min": None,
+            "unit": "%",
+        }
         row[key] = float(bound)
         limits.append(row)
     return limits
@@ -83,14 +105,20 @@ def _spectral_limits(lot: Lot) -> list[dict[str, Any]]:
 
 def _parse_errors(result) -> None:
     if result.errors:
-        raise ValidationError({"callout_text": [
-            f"line {e.line}, column {e.column}: {e.message} ({e.text!r})" for e in result.errors
-        ]})
+        raise ValidationError(
+            {
+                "callout_text": [
+                    f"line {e.line}, column {e.column}: {e.message} ({e.text!r})"
+                    for e in result.errors
+                ]
+            }
+        )
 
 
 @transaction.atomic
-def plan_draft_create(*, actor, lot: Lot, pieces_per_sequence: int = 1,
-                      spare_pieces: int = 0) -> TestPlan:
+def plan_draft_create(
+    *, actor, lot: Lot, pieces_per_sequence: int = 1, spare_pieces: int = 0
+) -> TestPlan:
     """Turn the lot's callouts into a draft plan (plan 1, or the next draft after release)."""
     require_role(actor, Role.ENGINEER)
     lot = Lot.objects.select_for_update().select_related("spec").get(pk=lot.pk)
@@ -99,31 +127,47 @@ def plan_draft_create(*, actor, lot: Lot, pieces_per_sequence: int = 1,
     if lot.plans.exists():
         raise ValidationError("This lot has a released plan: make a new revision of it instead.")
     mil_basic = settings.MIL_48497_TEMPERATURE_SOLVENT_BASIC
-    parsed = parse_callouts(lot.spec.callout_text or "",
-                            ParseOptions(mil_48497_temperature_solvent_basic=mil_basic))
+    parsed = parse_callouts(
+        lot.spec.callout_text or "", ParseOptions(mil_48497_temperature_solvent_basic=mil_basic)
+    )
     _parse_errors(parsed)
     catalogue, versions = catalogue_from_database()
-    options = PlanOptions(pieces_per_sequence=pieces_per_sequence, spare_pieces=spare_pieces,
-                          mil_c_48497a_disputed_basic=mil_basic,
-                          spectral_limits=tuple(_spectral_limits(lot)))
+    options = PlanOptions(
+        pieces_per_sequence=pieces_per_sequence,
+        spare_pieces=spare_pieces,
+        mil_c_48497a_disputed_basic=mil_basic,
+        spectral_limits=tuple(_spectral_limits(lot)),
+    )
     try:
         draft = plan_sequences([r.as_json() for r in parsed.requirements], catalogue, options)
     except InputError as exc:
         raise ValidationError(str(exc)) from None
     plan = TestPlan(
-        lot=lot, number=1, status=PlanStatus.DRAFT, created_by=actor, created_at=clock.now(),
+        lot=lot,
+        number=1,
+        status=PlanStatus.DRAFT,
+        created_by=actor,
+        created_at=clock.now(),
         requirements=[r.as_json() for r in parsed.requirements],
         review_items=[asdict(item) for item in draft.review_items],
-        notes=list(draft.notes), assumptions=list(draft.assumptions),
-        options={"pieces_per_sequence": pieces_per_sequence, "spare_pieces": spare_pieces,
-                 "mil_48497_temperature_solvent_basic": mil_basic},
+        notes=list(draft.notes),
+        assumptions=list(draft.assumptions),
+        options={
+            "pieces_per_sequence": pieces_per_sequence,
+            "spare_pieces": spare_pieces,
+            "mil_48497_temperature_solvent_basic": mil_basic,
+        },
     )
     plan.full_clean()
     plan.save()
     for position, sequence in enumerate(draft.sequences, start=1):
-        row = PlanSequence.objects.create(plan=plan, position=position, label=sequence.label,
-                                          summary=sequence.summary[:300],
-                                          pieces_needed=sequence.pieces)
+        row = PlanSequence.objects.create(
+            plan=plan,
+            position=position,
+            label=sequence.label,
+            summary=sequence.summary[:300],
+            pieces_needed=sequence.pieces,
+        )
         for step in sequence.steps:
             version = versions.get(step.method_code)
             if version is None:
@@ -134,17 +178,32 @@ def plan_draft_create(*, actor, lot: Lot, pieces_per_sequence: int = 1,
                 spec.update(version.parameter_status.get(name, {}))
             hours, _source = step_hours(step.kind, parameters)
             PlanStep.objects.create(
-                plan=plan, sequence=row, order=step.order, role=step.role,
-                method_version=version, kind=step.kind, name=step.name,
-                parameters=parameters, acceptance=dict(step.acceptance),
-                acceptance_text=version.acceptance_text, hazards=list(step.hazards),
+                plan=plan,
+                sequence=row,
+                order=step.order,
+                role=step.role,
+                method_version=version,
+                kind=step.kind,
+                name=step.name,
+                parameters=parameters,
+                acceptance=dict(step.acceptance),
+                acceptance_text=version.acceptance_text,
+                hazards=list(step.hazards),
                 destructive=step.destructive,
                 wait_hours_before=Decimal(str(step.wait_hours_before)),
-                wait_reason=step.wait_reason[:200], hours=Decimal(str(round(hours, 2))),
-                severity=step.severity, state=step.state, note=step.note,
+                wait_reason=step.wait_reason[:200],
+                hours=Decimal(str(round(hours, 2))),
+                severity=step.severity,
+                state=step.state,
+                note=step.note,
             )
-    audit_record(actor=actor, action="create", obj=plan, after=snapshot(plan),
-                 reason="draft plan made from the coating spec's callouts")
+    audit_record(
+        actor=actor,
+        action="create",
+        obj=plan,
+        after=snapshot(plan),
+        reason="draft plan made from the coating spec's callouts",
+    )
     return plan
 
 
@@ -156,9 +215,15 @@ def _editable(plan: TestPlan) -> TestPlan:
 
 
 @transaction.atomic
-def plan_step_update(*, actor, step: PlanStep, hours: Decimal | None = None,
-                     wait_hours_before: Decimal | None = None, note: str | None = None,
-                     parameters: dict[str, Any] | None = None) -> PlanStep:
+def plan_step_update(
+    *,
+    actor,
+    step: PlanStep,
+    hours: Decimal | None = None,
+    wait_hours_before: Decimal | None = None,
+    note: str | None = None,
+    parameters: dict[str, Any] | None = None,
+) -> PlanStep:
     """Edit a draft plan's step: duration, wait, note, or parameter values the plan uses."""
     require_role(actor, Role.ENGINEER)
     _editable(step.plan)
@@ -175,8 +240,11 @@ def plan_step_update(*, actor, step: PlanStep, hours: Decimal | None = None,
             if name not in merged:
                 raise ValidationError({"parameters": f"The step has no parameter {name!r}."})
             if merged[name].get("value") != value:
-                merged[name].update(value=value, status="plan_value",
-                                    note=f"set in the plan by {actor.get_username()}")
+                merged[name].update(
+                    value=value,
+                    status="plan_value",
+                    note=f"set in the plan by {actor.get_username()}",
+                )
         step.parameters = merged
     step.full_clean()
     step.save()
@@ -191,14 +259,16 @@ def plan_step_remove(*, actor, step: PlanStep, reason: str) -> None:
     _editable(step.plan)
     if not reason.strip():
         raise ValidationError({"reason": "Say why the step is taken out."})
-    audit_record(actor=actor, action="remove step", obj=step.plan, before=snapshot(step),
-                 reason=reason)
+    audit_record(
+        actor=actor, action="remove step", obj=step.plan, before=snapshot(step), reason=reason
+    )
     step.delete()
 
 
 @transaction.atomic
-def plan_pieces_assign(*, actor, plan: TestPlan,
-                       pieces: list[WitnessPiece] | None = None) -> list[SequencePiece]:
+def plan_pieces_assign(
+    *, actor, plan: TestPlan, pieces: list[WitnessPiece] | None = None
+) -> list[SequencePiece]:
     """Assign the lot's unassigned pieces to the draft's sequences in order.
 
     Refused with the number still needed when the lot holds too few pieces.
@@ -215,16 +285,24 @@ def plan_pieces_assign(*, actor, plan: TestPlan,
         for _ in range(sequence.pieces_needed - have):
             if not free:
                 missing = sum(
-                    max(0, s.pieces_needed - s.assignments.count())
-                    for s in plan.sequences.all()
+                    max(0, s.pieces_needed - s.assignments.count()) for s in plan.sequences.all()
                 )
-                raise ValidationError({"pieces": (
-                    f"The plan needs {missing} more witness piece(s) than the lot has: "
-                    "allocate them from stock first.")})
+                raise ValidationError(
+                    {
+                        "pieces": (
+                            f"The plan needs {missing} more witness piece(s) than the lot has: "
+                            "allocate them from stock first."
+                        )
+                    }
+                )
             piece = free.pop(0)
             made.append(SequencePiece.objects.create(plan=plan, sequence=sequence, piece=piece))
-    audit_record(actor=actor, action="assign pieces", obj=plan,
-                 after={"assignments": [[a.sequence.label, a.piece.ident] for a in made]})
+    audit_record(
+        actor=actor,
+        action="assign pieces",
+        obj=plan,
+        after={"assignments": [[a.sequence.label, a.piece.ident] for a in made]},
+    )
     return made
 
 
@@ -236,15 +314,18 @@ def plan_release(*, actor, plan: TestPlan, review_items_acknowledged: bool = Fal
     problems = []
     for sequence in plan.sequences.order_by("position"):
         if sequence.assignments.count() < sequence.pieces_needed:
-            problems.append(f"sequence {sequence.label} has "
-                            f"{sequence.assignments.count()} of {sequence.pieces_needed} pieces")
+            problems.append(
+                f"sequence {sequence.label} has "
+                f"{sequence.assignments.count()} of {sequence.pieces_needed} pieces"
+            )
         if not sequence.steps.exists():
             problems.append(f"sequence {sequence.label} has no steps")
     if not plan.sequences.exists():
         problems.append("the plan has no sequences")
     if plan.review_items and not review_items_acknowledged:
-        problems.append(f"{len(plan.review_items)} item(s) need engineering review: "
-                        "acknowledge them to release")
+        problems.append(
+            f"{len(plan.review_items)} item(s) need engineering review: acknowledge them to release"
+        )
     if problems:
         raise ValidationError({"plan": [f"Cannot release: {p}." for p in problems]})
     before = snapshot(plan)
@@ -272,28 +353,55 @@ def plan_revise(*, actor, plan: TestPlan, reason: str) -> TestPlan:
     if hasattr(plan, "superseded_by"):
         raise ValidationError("This plan already has a newer revision.")
     revision = TestPlan(
-        lot=plan.lot, number=plan.number + 1, supersedes=plan, reason=reason,
-        status=PlanStatus.DRAFT, created_by=actor, created_at=clock.now(),
-        requirements=plan.requirements, review_items=plan.review_items, notes=plan.notes,
-        assumptions=plan.assumptions, options=plan.options)
+        lot=plan.lot,
+        number=plan.number + 1,
+        supersedes=plan,
+        reason=reason,
+        status=PlanStatus.DRAFT,
+        created_by=actor,
+        created_at=clock.now(),
+        requirements=plan.requirements,
+        review_items=plan.review_items,
+        notes=plan.notes,
+        assumptions=plan.assumptions,
+        options=plan.options,
+    )
     revision.full_clean()
     revision.save()
     for sequence in plan.sequences.order_by("position"):
-        copy = PlanSequence.objects.create(plan=revision, position=sequence.position,
-                                           label=sequence.label, summary=sequence.summary,
-                                           pieces_needed=sequence.pieces_needed)
+        copy = PlanSequence.objects.create(
+            plan=revision,
+            position=sequence.position,
+            label=sequence.label,
+            summary=sequence.summary,
+            pieces_needed=sequence.pieces_needed,
+        )
         for step in sequence.steps.order_by("order"):
             PlanStep.objects.create(
-                plan=revision, sequence=copy, step_key=step.step_key, order=step.order,
-                role=step.role, method_version=step.method_version, kind=step.kind,
-                name=step.name, parameters=step.parameters, acceptance=step.acceptance,
-                acceptance_text=step.acceptance_text, hazards=step.hazards,
-                destructive=step.destructive, wait_hours_before=step.wait_hours_before,
-                wait_reason=step.wait_reason, hours=step.hours, severity=step.severity,
-                state=step.state, note=step.note, retest_of=step.retest_of)
+                plan=revision,
+                sequence=copy,
+                step_key=step.step_key,
+                order=step.order,
+                role=step.role,
+                method_version=step.method_version,
+                kind=step.kind,
+                name=step.name,
+                parameters=step.parameters,
+                acceptance=step.acceptance,
+                acceptance_text=step.acceptance_text,
+                hazards=step.hazards,
+                destructive=step.destructive,
+                wait_hours_before=step.wait_hours_before,
+                wait_reason=step.wait_reason,
+                hours=step.hours,
+                severity=step.severity,
+                state=step.state,
+                note=step.note,
+                retest_of=step.retest_of,
+            )
         for assignment in sequence.assignments.all():
             SequencePiece.objects.create(plan=revision, sequence=copy, piece=assignment.piece)
-    audit_record(actor=actor, action="revise", obj=revision, after=snapshot(revision),
-                 reason=reason)
+    audit_record(
+        actor=actor, action="revise", obj=revision, after=snapshot(revision), reason=reason
+    )
     return revision
-

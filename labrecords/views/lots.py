@@ -33,18 +33,26 @@ class HomeView(LoginRequiredMixin, SingleTableMixin, FilterView):
 @login_required
 def lot_detail(request, pk: int):
     lot = lot_for_user(request.user, pk)
-    return render(request, "labrecords/lot_detail.html", {
-        "lot": lot,
-        "pieces": selectors.lot_pieces(lot),
-        "audit": selectors.audit_trail(lot),
-    })
+    return render(
+        request,
+        "labrecords/lot_detail.html",
+        {
+            "lot": lot,
+            "pieces": selectors.lot_pieces(lot),
+            "audit": selectors.audit_trail(lot),
+        },
+    )
 
 
 @require_safe
 @login_required
 def piece_detail(request, ident: str):
     piece = piece_for_user(request.user, ident)
-    return render(request, "labrecords/piece_detail.html", {
-        "piece": piece,
-        "observations": selectors.piece_observations(piece),
-    })
+    return render(
+        request,
+        "labrecords/piece_detail.html",
+        {
+            "piece": piece,
+            "observations": selectors.piece_observations(piece),
+        },
+    )

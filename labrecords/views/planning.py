@@ -29,8 +29,11 @@ from labrecords.services import plans as plan_services
 
 def _errors(exc: ValidationError) -> list[str]:
     if hasattr(exc, "message_dict"):
-        return [f"{field}: {m}" if field != "__all__" else m
-                for field, msgs in exc.message_dict.items() for m in msgs]
+        return [
+            f"{field}: {m}" if field != "__all__" else m
+            for field, msgs in exc.message_dict.items()
+            for m in msgs
+        ]
     return list(exc.messages)
 
 
@@ -46,12 +49,17 @@ def spec_detail(request, pk: int):
     context = {"spec": spec, "lots": list(spec.lots.all())}
     if is_lab_staff(request.user):
         neff = NeffForm(request.GET or None)
-        n_eff = float(neff.cleaned_data["n_eff"]) if neff.is_valid() and neff.cleaned_data["n_eff"] else None
+        n_eff = (
+            float(neff.cleaned_data["n_eff"])
+            if neff.is_valid() and neff.cleaned_data["n_eff"]
+            else None
+        )
         choice, stock = planning.witness_choice_for(spec)
         context.update(
             neff_form=neff,
-            callouts=planning.callouts_read(spec.callout_text,
-                                            settings.MIL_48497_TEMPERATURE_SOLVENT_BASIC),
+            callouts=planning.callouts_read(
+                spec.callout_text, settings.MIL_48497_TEMPERATURE_SOLVENT_BASIC
+            ),
             check=planning.spec_check_for(spec, n_eff=n_eff),
             cautions=planning.glass_cautions_for(spec.glass) if spec.glass else None,
             choice=choice,
@@ -71,9 +79,12 @@ def spec_callouts(request, pk: int):
     require_role(request.user, Role.ENGINEER)
     form = CalloutsForm(request.POST)
     if form.is_valid():
-        order_services.coating_spec_update(actor=request.user, spec=spec,
-                                           reason=form.cleaned_data["reason"],
-                                           callout_text=form.cleaned_data["callout_text"])
+        order_services.coating_spec_update(
+            actor=request.user,
+            spec=spec,
+            reason=form.cleaned_data["reason"],
+            callout_text=form.cleaned_data["callout_text"],
+        )
         messages.success(request, "Callouts saved.")
     else:
         for field, errors in form.errors.items():
@@ -94,14 +105,18 @@ def witness_allocate(request, pk: int):
         return redirect(spec.get_absolute_url())
     try:
         pieces = lot_services.witness_pieces_allocate(
-            actor=request.user, lot=form.cleaned_data["lot"], stock=form.cleaned_data["stock"],
-            count=form.cleaned_data["count"])
+            actor=request.user,
+            lot=form.cleaned_data["lot"],
+            stock=form.cleaned_data["stock"],
+            count=form.cleaned_data["count"],
+        )
     except ValidationError as exc:
         for message in _errors(exc):
             messages.error(request, message)
     else:
-        messages.success(request, f"Allocated {len(pieces)} piece(s): "
-                                  f"{', '.join(p.ident for p in pieces)}.")
+        messages.success(
+            request, f"Allocated {len(pieces)} piece(s): {', '.join(p.ident for p in pieces)}."
+        )
     return redirect(spec.get_absolute_url())
 
 
@@ -111,13 +126,21 @@ def lot_plan(request, pk: int):
     lot = lot_for_user(request.user, pk)
     _lab_only(request.user)
     view = planning.lot_plan(lot)
-    return render(request, "labrecords/plan.html", {
-        "lot": lot, "view": view, "create_form": PlanCreateForm(),
-        "release_form": ReleaseForm(), "reason_form": ReasonForm(),
-        "can_plan": has_role(request.user, Role.ENGINEER),
-        "unassigned": list(lot.pieces.exclude(assignments__plan__lot=lot).order_by("ident"))
-        if view is None or view.plan.status == "draft" else [],
-    })
+    return render(
+        request,
+        "labrecords/plan.html",
+        {
+            "lot": lot,
+            "view": view,
+            "create_form": PlanCreateForm(),
+            "release_form": ReleaseForm(),
+            "reason_form": ReasonForm(),
+            "can_plan": has_role(request.user, Role.ENGINEER),
+            "unassigned": list(lot.pieces.exclude(assignments__plan__lot=lot).order_by("ident"))
+            if view is None or view.plan.status == "draft"
+            else [],
+        },
+    )
 
 
 def _plan_action(request, lot, action) -> None:
@@ -136,8 +159,13 @@ def plan_create(request, pk: int):
     require_role(request.user, Role.ENGINEER)
     form = PlanCreateForm(request.POST)
     if form.is_valid():
-        _plan_action(request, lot, lambda: plan_services.plan_draft_create(
-            actor=request.user, lot=lot, **form.cleaned_data))
+        _plan_action(
+            request,
+            lot,
+            lambda: plan_services.plan_draft_create(
+                actor=request.user, lot=lot, **form.cleaned_data
+            ),
+        )
     return redirect("labrecords:lot-plan", pk=lot.pk)
 
 
@@ -149,8 +177,11 @@ def plan_assign(request, pk: int):
     require_role(request.user, Role.ENGINEER)
     view = planning.lot_plan(lot)
     if view is not None:
-        _plan_action(request, lot, lambda: plan_services.plan_pieces_assign(
-            actor=request.user, plan=view.plan))
+        _plan_action(
+            request,
+            lot,
+            lambda: plan_services.plan_pieces_assign(actor=request.user, plan=view.plan),
+        )
     return redirect("labrecords:lot-plan", pk=lot.pk)
 
 
@@ -163,9 +194,15 @@ def plan_release(request, pk: int):
     view = planning.lot_plan(lot)
     form = ReleaseForm(request.POST)
     if view is not None and form.is_valid():
-        _plan_action(request, lot, lambda: plan_services.plan_release(
-            actor=request.user, plan=view.plan,
-            review_items_acknowledged=form.cleaned_data["review_items_acknowledged"]))
+        _plan_action(
+            request,
+            lot,
+            lambda: plan_services.plan_release(
+                actor=request.user,
+                plan=view.plan,
+                review_items_acknowledged=form.cleaned_data["review_items_acknowledged"],
+            ),
+        )
         if view.plan.pk and not messages.get_messages(request):
             messages.success(request, "Plan released.")
     return redirect("labrecords:lot-plan", pk=lot.pk)
@@ -182,8 +219,13 @@ def plan_revise(request, pk: int):
     if view is None:
         raise Http404
     if form.is_valid():
-        _plan_action(request, lot, lambda: plan_services.plan_revise(
-            actor=request.user, plan=view.plan, reason=form.cleaned_data["reason"]))
+        _plan_action(
+            request,
+            lot,
+            lambda: plan_services.plan_revise(
+                actor=request.user, plan=view.plan, reason=form.cleaned_data["reason"]
+            ),
+        )
     else:
         messages.error(request, "Why: say why the released plan changes.")
     return redirect("labrecords:lot-plan", pk=lot.pk)
@@ -193,8 +235,9 @@ def plan_revise(request, pk: int):
 def plan_step_edit(request, pk: int, step_pk: int):
     lot = lot_for_user(request.user, pk)
     _lab_only(request.user)
-    step = get_object_or_404(PlanStep.objects.select_related("plan", "method_version__method"),
-                             pk=step_pk, plan__lot=lot)
+    step = get_object_or_404(
+        PlanStep.objects.select_related("plan", "method_version__method"), pk=step_pk, plan__lot=lot
+    )
     if request.method == "POST":
         require_role(request.user, Role.ENGINEER)
         form = StepEditForm(request.POST)
@@ -208,13 +251,21 @@ def plan_step_edit(request, pk: int, step_pk: int):
                 messages.success(request, f"Step {step.order} saved.")
                 return redirect("labrecords:lot-plan", pk=lot.pk)
     elif request.method == "GET":
-        form = StepEditForm(initial={"hours": step.hours, "wait_hours_before": step.wait_hours_before,
-                                     "note": step.note})
+        form = StepEditForm(
+            initial={
+                "hours": step.hours,
+                "wait_hours_before": step.wait_hours_before,
+                "note": step.note,
+            }
+        )
     else:
         from django.http import HttpResponseNotAllowed
 
         return HttpResponseNotAllowed(["GET", "POST"])
     from durability.safety import cautions_for
 
-    return render(request, "labrecords/plan_step_edit.html", {
-        "lot": lot, "step": step, "form": form, "cautions": cautions_for(step.hazards)})
+    return render(
+        request,
+        "labrecords/plan_step_edit.html",
+        {"lot": lot, "step": step, "form": form, "cautions": cautions_for(step.hazards)},
+    )

@@ -26,8 +26,12 @@ def test_seeding_twice_adds_nothing_the_second_time():
 def test_a_changed_seed_entry_adds_a_version_but_never_over_a_lab_confirmed_one(cast, tmp_path):
     catalogue_seed()
     confirmed = Method.objects.get(code="MIL-C-48497A:humidity")
-    method_parameter_confirm(actor=cast.quality_manager, method=confirmed,
-                             parameter="temperature_tolerance_c", copy="lab copy no. 1")
+    method_parameter_confirm(
+        actor=cast.quality_manager,
+        method=confirmed,
+        parameter="temperature_tolerance_c",
+        copy="lab copy no. 1",
+    )
     data = json.loads(CATALOGUE_SEED.read_text(encoding="utf-8"))
     for entry in data["methods"]:
         if entry["code"] in {"MIL-C-48497A:humidity", "MIL-C-48497A:adhesion"}:
@@ -45,11 +49,13 @@ def test_confirming_needs_the_copy_and_the_quality_manager_role(cast):
     catalogue_seed()
     method = Method.objects.get(code="MIL-C-48497A:humidity")
     with pytest.raises(ValidationError, match="copy"):
-        method_parameter_confirm(actor=cast.quality_manager, method=method,
-                                 parameter="duration_h", copy=" ")
+        method_parameter_confirm(
+            actor=cast.quality_manager, method=method, parameter="duration_h", copy=" "
+        )
     with pytest.raises(Exception, match="role"):
-        method_parameter_confirm(actor=cast.engineer, method=method, parameter="duration_h",
-                                 copy="x")
+        method_parameter_confirm(
+            actor=cast.engineer, method=method, parameter="duration_h", copy="x"
+        )
     assert method.versions.count() == 1
 
 
@@ -75,7 +81,9 @@ def test_method_versions_are_immutable_in_the_database():
 
     catalogue_seed()
     version = MethodVersion.objects.first()
-    with pytest.raises((DatabaseError, IntegrityError), match="append-only"), \
-            transaction.atomic(), connection.cursor() as cursor:
-        cursor.execute("UPDATE durability_methodversion SET note = 'x' WHERE id = %s",
-                       [version.pk])
+    with (
+        pytest.raises((DatabaseError, IntegrityError), match="append-only"),
+        transaction.atomic(),
+        connection.cursor() as cursor,
+    ):
+        cursor.execute("UPDATE durability_methodversion SET note = 'x' WHERE id = %s", [version.pk])

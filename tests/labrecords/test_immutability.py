@@ -29,8 +29,11 @@ def observation(cast):
     piece = WitnessPieceFactory()
     with clock.frozen_at(NOW):
         return observation_record(
-            actor=cast.technician, piece=piece, point="initial",
-            observed_at=NOW - datetime.timedelta(minutes=5), no_defects=True,
+            actor=cast.technician,
+            piece=piece,
+            point="initial",
+            observed_at=NOW - datetime.timedelta(minutes=5),
+            no_defects=True,
         )
 
 
@@ -96,8 +99,11 @@ def test_a_correction_keeps_both_revisions_and_writes_one_audit_entry(cast, obse
     audit_before = AuditEntry.objects.count()
     with clock.frozen_at(NOW + datetime.timedelta(hours=1)):
         correction = observation_correct(
-            actor=cast.engineer, revision=observation, reason="haze at the edge was missed",
-            no_defects=False, defects=[{"defect": "haze", "zone": "edge", "intensity": 1}],
+            actor=cast.engineer,
+            revision=observation,
+            reason="haze at the edge was missed",
+            no_defects=False,
+            defects=[{"defect": "haze", "zone": "edge", "intensity": 1}],
         )
     revisions = list(Observation.objects.history(observation.record_key))
     assert [r.number for r in revisions] == [1, 2]
@@ -116,12 +122,17 @@ def test_a_correction_keeps_both_revisions_and_writes_one_audit_entry(cast, obse
 def test_a_second_correction_of_the_same_revision_is_refused(cast, observation):
     with clock.frozen_at(NOW + datetime.timedelta(hours=1)):
         first = observation_correct(
-            actor=cast.engineer, revision=observation, reason="first look was wrong",
-            no_defects=False, defects=[{"defect": "spots", "quantity": 2}],
+            actor=cast.engineer,
+            revision=observation,
+            reason="first look was wrong",
+            no_defects=False,
+            defects=[{"defect": "spots", "quantity": 2}],
         )
         with pytest.raises(StaleRevisionError) as refused:
             observation_correct(
-                actor=cast.technician, revision=observation, reason="stale screen",
+                actor=cast.technician,
+                revision=observation,
+                reason="stale screen",
                 no_defects=True,
             )
     assert refused.value.current == first
@@ -131,9 +142,16 @@ def test_a_second_correction_of_the_same_revision_is_refused(cast, observation):
 
 def test_the_database_refuses_a_second_superseding_row_even_past_the_service(cast, observation):
     later = NOW + datetime.timedelta(hours=2)
-    common = dict(piece=observation.piece, point="initial", no_defects=True,
-                  recorded_by=cast.technician, recorded_at=later, observed_at=later,
-                  record_key=observation.record_key, reason="r")
+    common = dict(
+        piece=observation.piece,
+        point="initial",
+        no_defects=True,
+        recorded_by=cast.technician,
+        recorded_at=later,
+        observed_at=later,
+        record_key=observation.record_key,
+        reason="r",
+    )
     Observation(supersedes=observation, number=2, **common).save()
     with pytest.raises(IntegrityError), transaction.atomic():
         Observation(supersedes=observation, number=3, **common).save()
@@ -141,9 +159,14 @@ def test_the_database_refuses_a_second_superseding_row_even_past_the_service(cas
 
 def test_observed_at_later_than_recorded_at_is_refused_by_the_database(cast, observation):
     with pytest.raises(IntegrityError), transaction.atomic():
-        Observation(piece=observation.piece, point="initial", no_defects=True,
-                    recorded_by=cast.technician, recorded_at=NOW,
-                    observed_at=NOW + datetime.timedelta(seconds=1)).save()
+        Observation(
+            piece=observation.piece,
+            point="initial",
+            no_defects=True,
+            recorded_by=cast.technician,
+            recorded_at=NOW,
+            observed_at=NOW + datetime.timedelta(seconds=1),
+        ).save()
 
 
 def test_the_maintenance_switch_is_closed_outside_its_window(observation):
@@ -171,6 +194,7 @@ def test_application_code_never_calls_the_maintenance_switch():
 def test_a_transactional_test_can_still_be_emptied_afterwards(cast):
     piece = WitnessPieceFactory()
     with clock.frozen_at(NOW):
-        observation_record(actor=cast.technician, piece=piece, point="initial",
-                           observed_at=NOW, no_defects=True)
+        observation_record(
+            actor=cast.technician, piece=piece, point="initial", observed_at=NOW, no_defects=True
+        )
     assert Observation.objects.count() == 1

@@ -31,8 +31,7 @@ def test_a_mil_48497a_callout_becomes_initial_inspection_then_its_basic_tests(ca
 
 
 def test_destructive_steps_never_share_a_piece(cast):
-    plan = released_plan(callouts="MIL-C-48497A, severe abrasion, salt fog",
-                         engineer=cast.engineer)
+    plan = released_plan(callouts="MIL-C-48497A, severe abrasion, salt fog", engineer=cast.engineer)
     for sequence in plan.sequences.all():
         destructive = [s for s in sequence.steps.all() if s.destructive]
         assert len(destructive) <= 1
@@ -44,8 +43,12 @@ def test_release_records_who_and_when_and_writes_the_audit_trail(cast):
     plan = released_plan(engineer=cast.engineer)
     assert plan.status == PlanStatus.RELEASED
     assert plan.released_by == cast.engineer and plan.released_at is not None
-    assert AuditEntry.objects.filter(model="labrecords.TestPlan", object_pk=str(plan.pk),
-                                     action="release").count() == 1
+    assert (
+        AuditEntry.objects.filter(
+            model="labrecords.TestPlan", object_pk=str(plan.pk), action="release"
+        ).count()
+        == 1
+    )
 
 
 def test_a_released_plan_refuses_edits_in_the_service_and_in_the_database(cast):
@@ -53,11 +56,17 @@ def test_a_released_plan_refuses_edits_in_the_service_and_in_the_database(cast):
     step = plan.steps.first()
     with pytest.raises(ValidationError, match="new revision"):
         plans.plan_step_update(actor=cast.engineer, step=step, note="changed")
-    with pytest.raises((DatabaseError, IntegrityError), match="released test plan"), \
-            transaction.atomic(), connection.cursor() as cursor:
+    with (
+        pytest.raises((DatabaseError, IntegrityError), match="released test plan"),
+        transaction.atomic(),
+        connection.cursor() as cursor,
+    ):
         cursor.execute("UPDATE labrecords_planstep SET note = 'x' WHERE id = %s", [step.pk])
-    with pytest.raises((DatabaseError, IntegrityError), match="released test plan"), \
-            transaction.atomic(), connection.cursor() as cursor:
+    with (
+        pytest.raises((DatabaseError, IntegrityError), match="released test plan"),
+        transaction.atomic(),
+        connection.cursor() as cursor,
+    ):
         cursor.execute("UPDATE labrecords_testplan SET notes = '[]' WHERE id = %s", [plan.pk])
     assert PlanStep.objects.get(pk=step.pk).note == step.note
 
@@ -66,11 +75,13 @@ def test_a_revision_needs_a_reason_keeps_step_keys_and_supersedes_on_release(cas
     plan = released_plan(engineer=cast.engineer)
     with pytest.raises(ValidationError, match="why"):
         plans.plan_revise(actor=cast.engineer, plan=plan, reason=" ")
-    revision = plans.plan_revise(actor=cast.engineer, plan=plan,
-                                 reason="customer added a water solubility test")
+    revision = plans.plan_revise(
+        actor=cast.engineer, plan=plan, reason="customer added a water solubility test"
+    )
     assert revision.supersedes == plan and revision.status == PlanStatus.DRAFT
     assert set(revision.steps.values_list("step_key", flat=True)) == set(
-        plan.steps.values_list("step_key", flat=True))
+        plan.steps.values_list("step_key", flat=True)
+    )
     plans.plan_release(actor=cast.engineer, plan=revision, review_items_acknowledged=True)
     assert list(TestPlan.objects.current_released().filter(lot=plan.lot)) == [revision]
 

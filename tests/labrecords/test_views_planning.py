@@ -18,8 +18,13 @@ pytestmark = pytest.mark.django_db
 
 @pytest.fixture
 def lot(cast):
-    glass = GlassFactory(name="Test crown", acid_class="4", alkali_class="2",
-                         phosphate_class="3", expansion_per_k_e6="9.5")
+    glass = GlassFactory(
+        name="Test crown",
+        acid_class="4",
+        alkali_class="2",
+        phosphate_class="3",
+        expansion_per_k_e6="9.5",
+    )
     lot = LotFactory(order=OrderFactory(customer=cast.customer_org), spec__glass=glass)
     lot.spec.glass = glass
     lot.spec.callout_text = "MIL-C-48497A"
@@ -115,10 +120,18 @@ def test_a_quality_manager_confirms_a_value_as_a_new_version(client, cast):
     method = Method.objects.get(code="MIL-C-48497A:humidity")
     client.force_login(cast.engineer)
     url = f"/methods/{method.code}/confirm/"
-    assert client.post(url, {"parameter": "temperature_tolerance_c", "copy": "x"}).status_code == 403
+    assert (
+        client.post(url, {"parameter": "temperature_tolerance_c", "copy": "x"}).status_code == 403
+    )
     client.force_login(cast.quality_manager)
-    client.post(url, {"parameter": "temperature_tolerance_c", "value": "2.2",
-                      "copy": "lab copy of MIL-C-48497A amendment 3"})
+    client.post(
+        url,
+        {
+            "parameter": "temperature_tolerance_c",
+            "value": "2.2",
+            "copy": "lab copy of MIL-C-48497A amendment 3",
+        },
+    )
     current = method.current_version()
     assert current.number == 2
     status = current.parameter_status["temperature_tolerance_c"]

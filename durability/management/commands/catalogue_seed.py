@@ -33,9 +33,11 @@ class Command(BaseCommand):
         if options["verbosity"] < 1:
             return
         prefix = "Would add" if options["dry_run"] else "Added"
-        self.stdout.write(self.style.SUCCESS(
-            f"{prefix} {len(report.standards_added)} standard(s), {len(report.methods_added)} "
-            f"method(s), {len(report.versions_added)} version(s)."
-        ))
+        self.stdout.write(
+            self.style.SUCCESS(
+                f"{prefix} {len(report.standards_added)} standard(s), {len(report.methods_added)} "
+                f"method(s), {len(report.versions_added)} version(s)."
+            )
+        )
         for code in report.kept_lab_versions:
             self.stdout.write(f"Kept the lab's own version of {code}.")

@@ -14,11 +14,13 @@ class Command(BaseCommand):
 
     def add_arguments(self, parser):
         parser.add_argument(
-            "--reset", action="store_true",
+            "--reset",
+            action="store_true",
             help="recreate the database first (every record in it is lost)",
         )
-        parser.add_argument("--dry-run", action="store_true",
-                            help="say what would happen and change nothing")
+        parser.add_argument(
+            "--dry-run", action="store_true", help="say what would happen and change nothing"
+        )
 
     def handle(self, *args, **options):
         if getattr(settings, "IS_PRODUCTION", False):
