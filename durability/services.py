@@ -271,8 +271,10 @@ def catalogue_seed(*, path: Path = CATALOGUE_SEED, actor=None) -> SeedReport:
     report = SeedReport()
     standards: dict[str, Standard] = {}
     for row in data["standards"]:
-        standard = Standard.objects.filter(designation=row["designation"]).order_by("pk").first()
-        if standard is None:
+        existing = Standard.objects.filter(designation=row["designation"]).order_by("pk").first()
+        if existing is not None:
+            standard = existing
+        else:
             standard = create_audited(
                 actor=actor,
                 obj=Standard(
@@ -287,8 +289,10 @@ def catalogue_seed(*, path: Path = CATALOGUE_SEED, actor=None) -> SeedReport:
         standards[row["designation"]] = standard
     for entry in data["methods"]:
         digest = _digest(entry)
-        method = Method.objects.filter(code=entry["code"]).first()
-        if method is None:
+        found = Method.objects.filter(code=entry["code"]).first()
+        if found is not None:
+            method = found
+        else:
             method = create_audited(
                 actor=actor,
                 obj=Method(

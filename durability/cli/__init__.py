@@ -18,6 +18,7 @@ import importlib
 import json
 import sys
 from collections.abc import Sequence
+from types import ModuleType
 
 from durability.errors import InputError
 
@@ -40,8 +41,8 @@ class _Parser(argparse.ArgumentParser):
     """argparse exits 2 on usage errors already; keep its message on stderr."""
 
 
-def _available() -> dict[str, object]:
-    modules = {}
+def _available() -> dict[str, ModuleType]:
+    modules: dict[str, ModuleType] = {}
     for name, path in COMMANDS.items():
         try:
             modules[name] = importlib.import_module(path)

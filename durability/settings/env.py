@@ -55,7 +55,7 @@ def env_list(name: str, default: list[str] | object = _MISSING) -> list[str]:
     if value is None:
         if default is _MISSING:
             raise ImproperlyConfigured(f"The environment variable {name} is required.")
-        return list(default)  # type: ignore[call-overload]
+        return [str(item) for item in default]  # type: ignore[union-attr]
     items = [item.strip() for item in value.split(",") if item.strip()]
     if not items and default is _MISSING:
         raise ImproperlyConfigured(f"The environment variable {name} must not be empty.")

@@ -11,5 +11,5 @@ LAB_NAME = "Test Lab"
 LAB_ADDRESS = "1 Test Street, Testville"
 REPORT_VERIFY_BASE_URL = "http://testserver"
 
-if DATABASES["default"]["ENGINE"].endswith("sqlite3"):
+if str(DATABASES["default"]["ENGINE"]).endswith("sqlite3"):
     DATABASES["default"]["TEST"] = {"NAME": ":memory:"}

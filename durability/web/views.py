@@ -88,7 +88,8 @@ def method_confirm(request, code: str):
     form = ConfirmForm(request.POST)
     if not form.is_valid():
         for field, errors in form.errors.items():
-            messages.error(request, f"{form.fields[field].label or field}: {' '.join(errors)}")
+            text = " ".join(str(e) for e in errors)
+            messages.error(request, f"{form.fields[field].label or field}: {text}")
         return redirect("durability:method-detail", code=code)
     value: object = form.cleaned_data["value"] or None
     if isinstance(value, str):

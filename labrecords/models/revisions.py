@@ -89,4 +89,4 @@ class RevisionModel(AppendOnlyModel):
 
     @property
     def is_correction(self) -> bool:
-        return self.supersedes_id is not None
+        return getattr(self, "supersedes_id", None) is not None

@@ -4,11 +4,14 @@ import datetime
 import decimal
 import uuid
 from collections.abc import Iterable, Mapping
+from typing import TypeVar
 
 from django.db import models
 
 from labrecords import clock
 from labrecords.models import AuditEntry
+
+M = TypeVar("M", bound=models.Model)
 
 
 def _plain(value: object) -> object:
@@ -58,7 +61,7 @@ def audit_record(
     )
 
 
-def create_audited(*, actor, obj: models.Model, reason: str = "") -> models.Model:
+def create_audited(*, actor, obj: M, reason: str = "") -> M:
     """Validate, insert and audit a new object (call inside a transaction)."""
     obj.full_clean()
     obj.save()
@@ -67,8 +70,8 @@ def create_audited(*, actor, obj: models.Model, reason: str = "") -> models.Mode
 
 
 def change_audited(
-    *, actor, obj: models.Model, changes: Mapping[str, object], reason: str = ""
-) -> models.Model:
+    *, actor, obj: M, changes: Mapping[str, object], reason: str = ""
+) -> M:
     """Apply field changes, validate, save and audit old and new values."""
     before = snapshot(obj)
     for name, value in changes.items():
