@@ -161,12 +161,18 @@ class Busy:
         return None
 
     def add(self, start: int, end: int) -> None:
-        """Mark [start, end) busy (the caller checked it is free)."""
+        """Mark [start, end) busy, merging it with the intervals it overlaps or touches."""
         if end <= start:
             return
-        i = bisect.bisect_left(self.starts, start)
-        self.starts.insert(i, start)
-        self.ends.insert(i, end)
+        lo = bisect.bisect_left(self.ends, start)
+        hi = bisect.bisect_right(self.starts, end)
+        if lo < hi:
+            start = min(start, self.starts[lo])
+            end = max(end, self.ends[hi - 1])
+            del self.starts[lo:hi]
+            del self.ends[lo:hi]
+        self.starts.insert(lo, start)
+        self.ends.insert(lo, end)
 
     def covers(self, start: int, end: int) -> bool:
         """True when [start, end) lies entirely inside busy intervals."""

@@ -64,14 +64,14 @@ class SolverOptions:
     # chamber's capacity and time is preferred, hours ahead a run that is not full may
     # look for more pieces of its condition when waiting for them uses the chamber better).
     settings: tuple[tuple[float, float], ...] = (
-        (24.0, 24.0),
+        (1000.0, 24.0),
+        (168.0, 24.0),
+        (1000.0, 96.0),
         (72.0, 24.0),
+        (1000.0, 8.0),
+        (336.0, 48.0),
+        (24.0, 24.0),
         (0.0, 0.0),
-        (24.0, 0.0),
-        (72.0, 0.0),
-        (8.0, 8.0),
-        (72.0, 96.0),
-        (0.0, 24.0),
     )
 
 
@@ -316,46 +316,57 @@ def _simulate(
         return True
 
     def load_chamber(r: int, t: int) -> None:
-        options: list[tuple[float, float, int]] = []
+        # Each condition's best loading moment: now, or (when the run would not be full)
+        # a later moment within the lookahead when more of its pieces are expected.
+        # A moment is scored by the share of the chamber's capacity and time the run
+        # uses: fill x run length / (run length + idle before the next reload + the
+        # wait before loading). Among conditions whose most urgent piece is within
+        # `prefer_full` of the most urgent one, the best-scored moment wins.
+        capacity = p.capacity[r]
+        options: list[tuple[float, float, int, int]] = []  # (urgency, -use, at, key)
         for key in keys_for[r]:
             heap = key_heap.get(key)
-            if not heap:
+            ready_now = len(heap) if heap else 0
+            if not ready_now and not fill_wait:
                 continue
             length = key_len[key]
-            clash = reservations[r].conflict(t, t + length)
-            if clash is not None:
-                wake(clash)
-                continue
-            # Share of the chamber's capacity and time this run would use: a fuller run,
-            # and one ending when someone can reload the chamber, wastes less of it.
-            reload = cal.next_open(t + length)
-            idle = 0 if reload is None else reload - (t + length)
-            filled = min(len(heap), p.capacity[r]) / p.capacity[r]
-            use = filled * (length / (length + idle) if length + idle > 0 else 1.0)
-            options.append((heap[0][0], -use, key))
+            best: tuple[float, float, int] | None = None  # (-use, urgency, at)
+            if ready_now and heap:
+                clash = reservations[r].conflict(t, t + length)
+                if clash is None:
+                    use = _use(cal, t, t, length, min(ready_now, capacity) / capacity)
+                    best = (-use, heap[0][0], t)
+                else:
+                    wake(clash)
+            if fill_wait and ready_now < capacity:
+                count = ready_now
+                most_urgent = heap[0][0] if heap else math.inf
+                arrivals = _forecast(
+                    key_unplaced[key], placed, released, ready_at, heads_start, t, fill_wait
+                )
+                for arrival, s in arrivals:
+                    if count >= capacity:
+                        break
+                    count += 1
+                    most_urgent = min(most_urgent, urgency[s])
+                    at = cal.next_open(arrival)
+                    if at is None or reservations[r].conflict(at, at + length) is not None:
+                        continue
+                    use = _use(cal, t, at, length, count / capacity)
+                    if best is None or -use < best[0] - 1e-9:
+                        best = (-use, most_urgent, at)
+            if best is not None:
+                options.append((best[1], best[0], best[2], key))
         if not options:
             return
-        top = min(options)
-        near = [o for o in options if o[0] <= top[0] + prefer_full]
+        top = min(o[0] for o in options)
+        near = [o for o in options if o[0] <= top + prefer_full]
         chosen = min(near, key=lambda o: (o[1], o[0]))
-        key = chosen[2]
+        if chosen[2] > t:
+            wake(chosen[2])
+            return
+        key = chosen[3]
         heap = key_heap[key]
-        if fill_wait and len(heap) < p.capacity[r]:
-            later = _later_start(
-                p,
-                cal,
-                reservations[r],
-                key_len[key],
-                len(heap),
-                t,
-                fill_wait,
-                _forecast(key_unplaced[key], placed, released, ready_at, heads_start, t),
-                -chosen[1],
-                p.capacity[r],
-            )
-            if later is not None:
-                wake(later)
-                return
         batch: list[int] = []
         aside: list[tuple[float, int]] = []
         while heap and len(batch) < p.capacity[r]:
@@ -375,6 +386,8 @@ def _simulate(
         wake(t + key_len[key])
 
     def start_bench(t: int, window_end: int) -> None:
+        if not any(group_of.values()):
+            return
         free: dict[int, list[int]] = {}
         for r in benches:
             ks = [k for k, f in enumerate(slot_free[r]) if f <= t]
@@ -461,52 +474,32 @@ def _forecast(
     ready_at: list[int],
     heads_start: list[int],
     t: int,
-) -> list[int]:
-    """When the unplaced pieces of one condition may be ready after t: known for released
-    steps, the chain's earliest start for the others (their feeders are not planned yet)."""
+    lookahead: int,
+) -> list[tuple[int, int]]:
+    """(moment, step) for the unplaced pieces of one condition expected within the
+    lookahead after t, soonest first: known for released steps, the chain's earliest
+    start for the others (their feeders are not planned yet)."""
     out = []
+    left = 0
     for s in members:
         if placed[s]:
             continue
+        members[left] = s
+        left += 1
         at = ready_at[s] if released[s] else heads_start[s]
-        if at > t:
-            out.append(at)
+        if t < at <= t + lookahead:
+            out.append((at, s))
+    del members[left:]  # placed pieces never come back; keep the list short
+    out.sort()
     return out
 
 
-def _later_start(
-    p: Prepared,
-    cal: LabCalendar,
-    reserved: Busy,
-    length: int,
-    ready_now: int,
-    t: int,
-    lookahead: int,
-    arrivals: list[int],
-    use_now: float,
-    capacity: int,
-) -> int | None:
-    """A later loading moment worth waiting for, or None to load now.
-
-    Waiting pays when the run's share of chamber time used (fill x run length over
-    run length + idle before the next reload + the wait itself) beats loading now.
-    """
-    best_use, best_at = use_now, None
-    count = ready_now
-    for a in sorted(arrivals):
-        if a > t + lookahead or count >= capacity:
-            break
-        count += 1
-        at = cal.next_open(a)
-        if at is None or reserved.conflict(at, at + length) is not None:
-            continue
-        reload = cal.next_open(at + length)
-        idle = 0 if reload is None else reload - (at + length)
-        span = length + idle + (at - t)
-        use = min(count, capacity) / capacity * (length / span if span > 0 else 1.0)
-        if use > best_use + 1e-9:
-            best_use, best_at = use, at
-    return best_at
+def _use(cal: LabCalendar, now: int, at: int, length: int, filled: float) -> float:
+    """Share of a chamber's capacity and time a run loaded at `at` uses, counted from now."""
+    reload = cal.next_open(at + length)
+    idle = 0 if reload is None else reload - (at + length)
+    span = length + idle + (at - now)
+    return filled * (length / span if span > 0 else 1.0)
 
 
 def _drop_placed(heaps: Mapping[Any, list[tuple[float, int]]], placed: list[bool]) -> None:

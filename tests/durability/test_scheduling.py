@@ -19,6 +19,7 @@ import pytest
 from durability.errors import InputError
 from durability.scheduling import SolverOptions, load_workload, schedule
 from durability.scheduling.bounds import lower_bound
+from durability.scheduling.calendar import Busy
 from durability.scheduling.prepare import prepare
 
 MONDAY = "2026-03-02"
@@ -511,3 +512,16 @@ def test_the_example_fixture_schedules(tmp_path: Any) -> None:
     assert steps["W1-tape"]["end"] == "2026-03-04T09:45"
     assert out["makespan_hours"] == pytest.approx(49.75)
     assert out["lower_bound_hours"] == pytest.approx(49.75)
+
+
+def test_busy_intervals_merge_when_a_fixed_run_overlaps_a_blocked_period() -> None:
+    # A fixed run may sit inside a blocked period (it is what really happened); the
+    # resource's busy list must still answer "free?" correctly afterwards.
+    busy = Busy([(0, 60)])
+    busy.add(0, 375)
+    busy.add(500, 600)
+    busy.add(590, 700)
+    assert busy.intervals() == [(0, 375), (500, 700)]
+    assert busy.conflict(100, 115) == 375
+    assert busy.conflict(375, 500) is None
+    assert busy.conflict(650, 660) == 700
