@@ -242,7 +242,14 @@ def _decode(data: bytes) -> tuple[str, str]:
 def _lines(text: str) -> list[str]:
     # Only CR and LF end a line: str.splitlines would also split on form feeds and other
     # separators a CSV cell may hold, and the line numbers in messages must match an editor's.
-    return text.replace("\r\n", "\n").replace("\r", "\n").split("\n")
+    lines = text.replace("\r\n", "\n").replace("\r", "\n").split("\n")
+    for number, line in enumerate(lines, start=1):
+        if "\x00" in line:
+            raise InputError(
+                f"line {number}: contains a NUL character (is this a binary or a UTF-16 file "
+                "without byte order mark?)"
+            )
+    return lines
 
 
 def _split(line: str, separator: str, line_no: int) -> list[str]:
@@ -270,6 +277,13 @@ class _Columns:
     order_hint: DateOrder | None
     names: tuple[str, ...]
     ignored: tuple[str, ...]
+
+    @property
+    def time_names(self) -> tuple[str, ...]:
+        """The timestamp column's name, or the date and the time column's names."""
+        if self.date is not None and self.clock is not None:
+            return (self.names[self.date], self.names[self.clock])
+        return (self.names[self.time if self.time is not None else 0],)
 
     @property
     def needed(self) -> int:
@@ -780,29 +794,24 @@ def _zone_messages(events: _ZoneEvents, zone_name: str) -> tuple[list[str], list
 
 
 def _decimal_mark(
-    cells: Sequence[tuple[int, str, str]], separator: str, wanted: str | None
+    cells: Sequence[tuple[int, str, str]], wanted: str | None
 ) -> tuple[str, list[str]]:
-    notes: list[str] = []
+    """The decimal mark: as given, or the one the values use; both in one file is refused."""
     if wanted is not None:
-        if wanted not in {".", ","}:
-            raise InputError(f"decimal mark {wanted!r}: use '.' or ','")
-        if wanted == separator:
-            raise InputError("the decimal mark cannot be the column separator")
-        return wanted, notes
+        return wanted, []
     point = next((c for c in cells if "." in c[2]), None)
     comma = next((c for c in cells if "," in c[2]), None)
     if point is not None and comma is not None:
-        later = point if point[0] > comma[0] else comma
-        earlier = comma if later is point else point
+        later, earlier = (point, comma) if point[0] > comma[0] else (comma, point)
+        later_mark = "point" if later is point else "comma"
+        earlier_mark = "comma" if later is point else "point"
         raise InputError(
-            f"line {later[0]}, column {later[1]!r}: {later[2]!r} uses a decimal "
-            f"{'point' if later is point else 'comma'} but line {earlier[0]} "
-            f"({earlier[2]!r}) uses a decimal {'comma' if later is point else 'point'}"
+            f"line {later[0]}, column {later[1]!r}: {later[2]!r} uses a decimal {later_mark} "
+            f"but line {earlier[0]} ({earlier[2]!r}) uses a decimal {earlier_mark}"
         )
     if comma is not None:
-        notes.append("values use a decimal comma")
-        return ",", notes
-    return ".", notes
+        return ",", ["values use a decimal comma"]
+    return ".", []
 
 
 def _number(text: str, decimal: str, line: int, column: str) -> float:
@@ -889,6 +898,65 @@ def read_logger_csv(
     Returns the readings in UTC with the format facts, notes and warnings. Raises InputError
     naming the line (and column) for a file it cannot read, and imports nothing then.
     """
+    text, encoding = _text(data)
+    order = _date_order_option(date_order)
+    if separator is not None and separator not in _SEPARATORS:
+        raise InputError(f"separator {separator!r}: use ',', ';' or a tab")
+    if decimal is not None and decimal not in {".", ","}:
+        raise InputError(f"decimal mark {decimal!r}: use '.' or ','")
+    forced_unit = _temperature_unit(temperature_unit) if temperature_unit is not None else None
+    if forced_unit is not None and forced_unit.startswith("?"):
+        raise InputError(f"temperature unit {temperature_unit!r}: use °C, °F or K")
+
+    notes: list[str] = []
+    warnings: list[str] = []
+    if encoding in {"Windows-1252", "ISO-8859-1"}:
+        notes.append(f"the file is not UTF-8; read as {encoding}")
+    lines = _lines(text)
+    header_index, sep, columns = _find_header(lines, separator, temperature_column, rh_column)
+    header_no = header_index + 1
+    preamble = sum(1 for line in lines[:header_index] if line.strip())
+    if preamble:
+        notes.append(f"{preamble} preamble line(s) before the column header on line {header_no}")
+    if columns.ignored:
+        notes.append("columns not used: " + ", ".join(repr(name) for name in columns.ignored))
+    unit = _unit_for(forced_unit, columns, header_no, notes)
+    zone, zone_name = _zone_for(time_zone, columns, header_no, notes)
+
+    rows = _data_rows(lines, header_index, sep, columns)
+    readings, mark, rh_present = _readings(rows, columns, unit, decimal, notes, warnings)
+    raws = [reading.time for reading in readings]
+    order = _date_order(raws, order, columns.order_hint, notes)
+    times = _times(raws, order, zone, zone_name, notes, warnings)
+
+    rh_name = columns.names[columns.rh] if columns.rh is not None and rh_present else None
+    return LoggerImport(
+        samples=tuple(
+            Sample(time=time, temperature_c=r.temperature_c, rh_percent=r.rh_percent, line=r.line)
+            for time, r in zip(times, readings, strict=True)
+        ),
+        format=LoggerFormat(
+            encoding=encoding,
+            separator=sep,
+            decimal=mark,
+            date_order=order,
+            time_zone=zone_name,
+            offsets_in_file=any(raw.offset is not None for raw in raws),
+            temperature_unit=unit,
+            rh_unit="%" if rh_name is not None else None,
+            header_line=header_no,
+            preamble_lines=preamble,
+            time_columns=columns.time_names,
+            temperature_column=columns.names[columns.temperature],
+            rh_column=rh_name,
+        ),
+        notes=tuple(notes),
+        warnings=tuple(warnings),
+    )
+
+
+def _text(data: bytes | str) -> tuple[str, str]:
+    """The file as text without byte order mark, and how it was decoded."""
     if isinstance(data, bytes):
         if len(data) > MAX_FILE_BYTES:
             raise InputError(
@@ -904,173 +972,160 @@ def read_logger_csv(
         text = text[1:]
         if encoding == "text":
             encoding = "text with byte order mark"
-    order = _date_order_option(date_order)
-    if separator is not None and separator not in _SEPARATORS:
-        raise InputError(f"separator {separator!r}: use ',', ';' or a tab")
-    forced_unit = _temperature_unit(temperature_unit) if temperature_unit is not None else None
-    if forced_unit is not None and forced_unit.startswith("?"):
-        raise InputError(f"temperature unit {temperature_unit!r}: use °C, °F or K")
+    return text, encoding
 
-    notes: list[str] = []
-    warnings: list[str] = []
-    if encoding in {"Windows-1252", "ISO-8859-1"}:
-        notes.append(f"the file is not UTF-8; read as {encoding}")
 
-    lines = _lines(text)
-    for number, line in enumerate(lines, start=1):
-        if "\x00" in line:
-            raise InputError(
-                f"line {number}: contains a NUL character (is this a binary or a UTF-16 file "
-                "without byte order mark?)"
-            )
-
-    header_index, sep, columns = _find_header(lines, separator, temperature_column, rh_column)
-    header_no = header_index + 1
-    preamble = sum(1 for line in lines[:header_index] if line.strip())
-    if preamble:
-        notes.append(f"{preamble} preamble line(s) before the column header on line {header_no}")
-    if columns.ignored:
-        notes.append("columns not used: " + ", ".join(repr(name) for name in columns.ignored))
-
-    unit = forced_unit or _temperature_unit(columns.temperature_unit)
-    temperature_name = columns.names[columns.temperature]
+def _unit_for(forced: str | None, columns: _Columns, header_no: int, notes: list[str]) -> str:
+    unit = forced or _temperature_unit(columns.temperature_unit)
+    name = columns.names[columns.temperature]
     if unit is None:
         unit = "°C"
-        notes.append(f"the temperature column {temperature_name!r} names no unit; read as °C")
+        notes.append(f"the temperature column {name!r} names no unit; read as °C")
     elif unit.startswith("?"):
         raise InputError(
-            f"line {header_no}, column {temperature_name!r}: temperature unit {unit[1:]!r} is "
-            "not °C, °F or K"
+            f"line {header_no}, column {name!r}: temperature unit {unit[1:]!r} is not °C, °F or K"
         )
     if unit != "°C":
         notes.append(f"temperatures were logged in {unit} and converted to °C")
+    return unit
 
-    zone, zone_name = _zone_for(time_zone, columns, header_no, notes)
 
-    # First pass: split every data row and parse its timestamp; the value cells wait for the
-    # decimal mark, which is decided from all of them.
-    rows: list[tuple[int, _RawTime, str, str | None]] = []
+@dataclass(frozen=True)
+class _Row:
+    line: int
+    time: _RawTime
+    temperature: str
+    rh: str | None
+
+
+@dataclass(frozen=True)
+class _Reading:
+    line: int
+    time: _RawTime
+    temperature_c: float
+    rh_percent: float | None
+
+
+def _data_rows(
+    lines: Sequence[str], header_index: int, separator: str, columns: _Columns
+) -> list[_Row]:
+    """Split the rows after the header and parse their timestamps."""
+    header_no = header_index + 1
+    rows: list[_Row] = []
     for index in range(header_index + 1, len(lines)):
         line = lines[index]
         line_no = index + 1
         if not line.strip():
             continue
-        cells = _split(line, sep, line_no)
+        cells = _split(line, separator, line_no)
         if all(not cell for cell in cells):
             continue
         if len(cells) < columns.needed:
             raise InputError(
                 f"line {line_no}: {len(cells)} column(s) where the header on line {header_no} "
-                f"has {len(columns.names)} ({_SEPARATOR_NAMES[sep]}-separated)"
+                f"has {len(columns.names)} ({_SEPARATOR_NAMES[separator]}-separated)"
             )
-        raw_time = _row_time(cells, columns, line_no)
         rh_text = cells[columns.rh] if columns.rh is not None else None
-        rows.append((line_no, raw_time, cells[columns.temperature], rh_text))
+        rows.append(
+            _Row(line_no, _row_time(cells, columns, line_no), cells[columns.temperature], rh_text)
+        )
     if not rows:
         raise InputError(f"line {header_no}: the column header is followed by no readings")
+    return rows
 
-    rh_name = columns.names[columns.rh] if columns.rh is not None else None
-    value_cells: list[tuple[int, str, str]] = []
-    for line_no, _, temperature_text, rh_text in rows:
-        if temperature_text.lower() not in _MISSING:
-            value_cells.append((line_no, temperature_name, temperature_text))
-        if rh_text is not None and rh_name is not None and rh_text.lower() not in _MISSING:
-            value_cells.append((line_no, rh_name, rh_text))
-    mark, decimal_notes = _decimal_mark(value_cells, sep, decimal)
+
+def _missing(text: str | None) -> bool:
+    return text is not None and text.lower() in _MISSING
+
+
+def _readings(
+    rows: Sequence[_Row],
+    columns: _Columns,
+    unit: str,
+    decimal: str | None,
+    notes: list[str],
+    warnings: list[str],
+) -> tuple[list[_Reading], str, bool]:
+    """Read the values, once the decimal mark is settled from all of them.
+
+    Returns the complete readings, the decimal mark and whether the file has humidity at all.
+    Rows with a missing value are left out with a warning.
+    """
+    temperature_name = columns.names[columns.temperature]
+    rh_name = columns.names[columns.rh] if columns.rh is not None else ""
+    cells: list[tuple[int, str, str]] = []
+    for row in rows:
+        if not _missing(row.temperature):
+            cells.append((row.line, temperature_name, row.temperature))
+        if row.rh is not None and not _missing(row.rh):
+            cells.append((row.line, rh_name, row.rh))
+    mark, decimal_notes = _decimal_mark(cells, decimal)
     notes.extend(decimal_notes)
-
-    rh_present = rh_name is not None and any(
-        rh_text is not None and rh_text.lower() not in _MISSING for _, _, _, rh_text in rows
-    )
-    if rh_name is not None and not rh_present:
+    rh_present = any(row.rh is not None and not _missing(row.rh) for row in rows)
+    if columns.rh is not None and not rh_present:
         notes.append(f"the humidity column {rh_name!r} is empty; readings have no humidity")
 
-    kept: list[tuple[int, _RawTime, float, float | None]] = []
+    readings: list[_Reading] = []
     dropped: list[int] = []
-    for line_no, raw_time, temperature_text, rh_text in rows:
-        if temperature_text.lower() in _MISSING or (
-            rh_present and rh_text is not None and rh_text.lower() in _MISSING
-        ):
-            dropped.append(line_no)
+    for row in rows:
+        if _missing(row.temperature) or (rh_present and _missing(row.rh)):
+            dropped.append(row.line)
             continue
-        value = _number(temperature_text, mark, line_no, temperature_name)
-        celsius = _to_celsius(value, unit)
+        celsius = _to_celsius(_number(row.temperature, mark, row.line, temperature_name), unit)
         if celsius < -273.15:
             raise InputError(
-                f"line {line_no}, column {temperature_name!r}: {temperature_text} {unit} is "
+                f"line {row.line}, column {temperature_name!r}: {row.temperature} {unit} is "
                 "below absolute zero"
             )
         rh_value: float | None = None
-        if rh_present and rh_text is not None and rh_name is not None:
-            rh_value = _number(rh_text, mark, line_no, rh_name)
+        if rh_present and row.rh is not None:
+            rh_value = _number(row.rh, mark, row.line, rh_name)
             # Sensors in saturated air read a little over 100 %; beyond 110 % or below 0 the
             # reading is not a humidity at all.
             if not 0.0 <= rh_value <= 110.0:
                 raise InputError(
-                    f"line {line_no}, column {rh_name!r}: {rh_text} % RH is outside 0 to 110 %"
+                    f"line {row.line}, column {rh_name!r}: {row.rh} % RH is outside 0 to 110 %"
                 )
-        kept.append((line_no, raw_time, celsius, rh_value))
+        readings.append(_Reading(row.line, row.time, celsius, rh_value))
     if dropped:
         warnings.append(
             f"{len(dropped)} row(s) have no reading and were left out ({_list_lines(dropped)}); "
             "the exposure check treats the time they cover as any other spacing between "
             "readings"
         )
-    if not kept:
-        raise InputError(f"no row after the header on line {header_no} has a complete reading")
+    if not readings:
+        raise InputError("no row after the column header has a complete reading")
+    return readings, mark, rh_present
 
-    raws = [raw for _, raw, _, _ in kept]
-    order = _date_order(raws, order, columns.order_hint, notes)
+
+def _times(
+    raws: Sequence[_RawTime],
+    order: DateOrder,
+    zone: tzinfo,
+    zone_name: str,
+    notes: list[str],
+    warnings: list[str],
+) -> list[datetime]:
+    """The readings' times in UTC, strictly increasing; daylight-saving events reported."""
     naives = [_naive(raw, order) for raw in raws]
     events = _ZoneEvents()
     times = _to_utc(raws, naives, zone, events)
     zone_notes, zone_warnings = _zone_messages(events, zone_name)
     notes.extend(zone_notes)
     warnings.extend(zone_warnings)
-    offsets_in_file = any(raw.offset is not None for raw in raws)
-    if offsets_in_file:
+    if any(raw.offset is not None for raw in raws):
         notes.append("timestamps carry their own UTC offset, which was used for them")
-
     for index in range(1, len(times)):
         previous, current = times[index - 1], times[index]
         if current <= previous:
-            line_no, raw = kept[index][0], kept[index][1]
-            earlier_line = kept[index - 1][0]
+            raw, earlier = raws[index], raws[index - 1]
             raise InputError(
-                f"line {line_no}, column {raw.column!r}: {raw.text!r} ({current:%Y-%m-%d %H:%M:%S} "
-                f"UTC) is not later than line {earlier_line} ({previous:%Y-%m-%d %H:%M:%S} UTC); "
-                "readings must be in time order without repeats"
+                f"line {raw.line}, column {raw.column!r}: {raw.text!r} "
+                f"({current:%Y-%m-%d %H:%M:%S} UTC) is not later than line {earlier.line} "
+                f"({previous:%Y-%m-%d %H:%M:%S} UTC); readings must be in time order without "
+                "repeats"
             )
-
-    samples = tuple(
-        Sample(time=time, temperature_c=celsius, rh_percent=rh, line=line_no)
-        for time, (line_no, _, celsius, rh) in zip(times, kept, strict=True)
-    )
-    time_columns = (
-        (columns.names[columns.date], columns.names[columns.clock])
-        if columns.date is not None and columns.clock is not None
-        else (columns.names[columns.time if columns.time is not None else 0],)
-    )
-    return LoggerImport(
-        samples=samples,
-        format=LoggerFormat(
-            encoding=encoding,
-            separator=sep,
-            decimal=mark,
-            date_order=order,
-            time_zone=zone_name,
-            offsets_in_file=offsets_in_file,
-            temperature_unit=unit,
-            rh_unit="%" if rh_present else None,
-            header_line=header_no,
-            preamble_lines=preamble,
-            time_columns=time_columns,
-            temperature_column=temperature_name,
-            rh_column=rh_name if rh_present else None,
-        ),
-        notes=tuple(notes),
-        warnings=tuple(warnings),
-    )
+    return times
 
 
 def _date_order_option(value: DateOrder | str | None) -> DateOrder | None:

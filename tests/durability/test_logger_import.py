@@ -419,7 +419,7 @@ def test_bad_options_are_refused() -> None:
     with pytest.raises(InputError, match="separator"):
         read_logger_csv(good, separator="|")
     with pytest.raises(InputError, match="decimal mark"):
-        read_logger_csv(good, decimal=",")
+        read_logger_csv(good, decimal="x")
     with pytest.raises(InputError, match="temperature unit"):
         read_logger_csv(good, temperature_unit="°R")
     with pytest.raises(InputError, match="is not an ISO date"):
