@@ -39,3 +39,24 @@ def test_the_demo_command_refuses_production_settings(settings):
     settings.IS_PRODUCTION = True
     with pytest.raises(CommandError, match="never built in production"):
         call_command("demo_lab", stdout=io.StringIO())
+
+
+def test_the_demo_releases_plans_for_older_lots_that_follow_the_plan_rules():
+    from labrecords.models import PlanStatus, TestPlan
+
+    call_command("demo_lab", stdout=io.StringIO())
+    released = list(TestPlan.objects.filter(status=PlanStatus.RELEASED)
+                    .prefetch_related("sequences__steps", "sequences__assignments"))
+    assert len(released) >= 20
+    for plan in released:
+        pieces = [a.piece_id for s in plan.sequences.all() for a in s.assignments.all()]
+        assert len(pieces) == len(set(pieces)), plan  # a piece runs one sequence
+        for sequence in plan.sequences.all():
+            steps = sorted(sequence.steps.all(), key=lambda s: s.order)
+            # An initial inspection before any exposure (common practice; ISO 9022's
+            # sequence starts with an initial test, per test-methods.md [pub]).
+            assert steps[0].kind == "inspection"
+            assert sum(1 for s in steps if s.destructive) <= 1
+            assert len(sequence.assignments.all()) >= sequence.pieces_needed
+    # A lot whose callouts only name bare tests waits for the engineer as a draft.
+    assert TestPlan.objects.filter(status=PlanStatus.DRAFT).exists()
