@@ -101,3 +101,15 @@ def evidence_for_user(user, pk: int):
     return get_object_or_404(
         Evidence.objects.select_related("piece__lot__spec", "chamber_run"), pk__in=ids
     )
+
+
+def report_for_user(user, number: str):
+    """An issued report (or amendment, or re-issue) of the user's organisation (lab: any)."""
+    from labrecords.models import Report
+
+    return get_object_or_404(
+        Report.objects.visible_to(user).select_related(
+            "lot__order__customer", "issued_by", "amends__replaced_by", "replaces", "replaced_by",
+            "review__reviewer"),
+        number=number,
+    )
