@@ -54,9 +54,7 @@ def csv_text(rows: Iterable[Iterable[object]]) -> str:
 def csv_response(filename: str, rows: Iterable[Iterable[object]]) -> HttpResponse:
     """An attachment download of the rows as UTF-8 CSV (with a byte order mark for
     spreadsheets that otherwise guess the encoding)."""
-    response = HttpResponse(
-        "\ufeff" + csv_text(rows), content_type="text/csv; charset=utf-8"
-    )
+    response = HttpResponse("\ufeff" + csv_text(rows), content_type="text/csv; charset=utf-8")
     response["Content-Disposition"] = f'attachment; filename="{filename}"'
     response["X-Content-Type-Options"] = "nosniff"
     return response

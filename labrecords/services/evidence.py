@@ -113,15 +113,38 @@ def evidence_create(
     check_size(data)
     name, sha256 = store_bytes(data)
     evidence = Evidence(
-        kind=kind, lot=lot, piece=piece, step_key=step_key, chamber_run=chamber_run,
-        stage=stage, sha256=sha256, original_name=display_name(original_name),
-        content_type=content_type, size=len(data), summary=summary, note=note,
-        uploaded_by=actor, uploaded_at=clock.now(),
+        kind=kind,
+        lot=lot,
+        piece=piece,
+        step_key=step_key,
+        chamber_run=chamber_run,
+        stage=stage,
+        sha256=sha256,
+        original_name=display_name(original_name),
+        content_type=content_type,
+        size=len(data),
+        summary=summary,
+        note=note,
+        uploaded_by=actor,
+        uploaded_at=clock.now(),
     )
     evidence.file.name = name
     evidence.full_clean()
     evidence.save()
-    after = snapshot(evidence, ["kind", "lot_id", "piece_id", "step_key", "chamber_run_id",
-                                "stage", "sha256", "original_name", "size", "note"])
+    after = snapshot(
+        evidence,
+        [
+            "kind",
+            "lot_id",
+            "piece_id",
+            "step_key",
+            "chamber_run_id",
+            "stage",
+            "sha256",
+            "original_name",
+            "size",
+            "note",
+        ],
+    )
     audit_record(actor=actor, action="upload evidence", obj=evidence, after=after)
     return evidence
