@@ -15,11 +15,13 @@ or from memory, not from a standard):
   24 h with 24 h drying (12 %), temperature cycling 16 h (12 %), thermal shock 4 h
   (12 %), abrasion (12 %), solubility and cleanability (10 %); each with inspections,
   tape or crosshatch and spectral measurements at the bench around the exposure.
-- The humidity pair HUM-1+HUM-2 is the bottleneck: about 75 % of its calendar time
-  over the horizon is needed for its least number of runs (`loads()` prints it).
+- The humidity pair HUM-1+HUM-2 is the bottleneck: with the default seed 86 % of
+  its calendar time over the six weeks is needed for its least number of runs
+  (other seeds 80-94 %); the spectrophotometer SPEC-1 comes next at about 76 % of
+  its lab hours (`loads()` computes these).
 - One lab holiday, a day of maintenance on HUM-2, half a day of calibration on
   SPEC-1, a few steps already running (fixed), 5 % rush lots (priority 1), due
-  dates a little after each lot's own chain.
+  dates one to three weeks after the end of each lot's own chain of steps.
 
 The horizon is six weeks for 2,000 steps and grows in proportion to the number
 of steps, so the load stays the same at every size.
