@@ -24,6 +24,7 @@ from durability.models import (
     CoatingDesign,
     Glass,
     Instrument,
+    LabProfile,
     Method,
     MethodVersion,
     ParameterStatus,
@@ -362,3 +363,13 @@ def instrument_update(*, actor, instrument: Instrument, reason: str, **changes: 
         raise ValidationError({"reason": "Say why the instrument record changes."})
     locked = Instrument.objects.select_for_update().get(pk=instrument.pk)
     return change_audited(actor=actor, obj=locked, changes=changes, reason=reason)
+
+
+@transaction.atomic
+def lab_profile_set(*, actor, name: str, address: str, accreditation: str = "") -> LabProfile:
+    """Record the lab's name and address as reports print them (the newest counts)."""
+    if actor is not None:
+        require_role(actor, Role.ADMINISTRATOR, Role.QUALITY_MANAGER)
+    profile = LabProfile(name=name, address=address, accreditation=accreditation,
+                         valid_from=clock.now())
+    return create_audited(actor=actor, obj=profile)

@@ -12,6 +12,7 @@ from durability.models.reference import (
     CoatingType,
     Glass,
     Instrument,
+    LabProfile,
     WitnessStock,
 )
 from durability.models.resources import (
@@ -33,6 +34,7 @@ __all__ = [
     "CoatingType",
     "Glass",
     "Instrument",
+    "LabProfile",
     "Method",
     "MethodKind",
     "MethodVersion",

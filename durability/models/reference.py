@@ -129,3 +129,19 @@ class WitnessStock(models.Model):
 
     def __str__(self) -> str:
         return f"{self.glass} {self.form}"
+
+
+class LabProfile(models.Model):
+    """The lab's name and address as reports print them. The newest row counts; older rows
+    stay so an old report's identity can still be read."""
+
+    name = models.CharField(max_length=160)
+    address = models.TextField()
+    accreditation = models.CharField(max_length=200, blank=True)
+    valid_from = models.DateTimeField()
+
+    class Meta:
+        ordering = ["-valid_from", "-id"]
+
+    def __str__(self) -> str:
+        return self.name

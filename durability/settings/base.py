@@ -104,6 +104,12 @@ USE_TZ = True
 # Stored in UTC; shown in the lab's time zone.
 TIME_ZONE = env_time_zone("LAB_TIME_ZONE", "Europe/Berlin")
 
+# ISO dates everywhere: a lab's records are read across countries.
+DATE_FORMAT = "Y-m-d"
+SHORT_DATE_FORMAT = "Y-m-d"
+DATETIME_FORMAT = "Y-m-d H:i T"
+SHORT_DATETIME_FORMAT = "Y-m-d H:i"
+
 STATIC_URL = "static/"
 STATICFILES_DIRS = [BASE_DIR / "durability" / "static"]
 STATIC_ROOT = env_path("STATIC_ROOT", BASE_DIR / "staticfiles")
@@ -116,7 +122,8 @@ EVIDENCE_MAX_BYTES = env_int("EVIDENCE_MAX_BYTES", 10 * 1024 * 1024)
 
 DJANGO_TABLES2_TEMPLATE = "django_tables2/semantic.html"
 
-LAB_NAME = env_str("LAB_NAME", "Lab name not set")
+# Fallbacks when no lab profile has been recorded (durability.LabProfile).
+LAB_NAME = env_str("LAB_NAME", "")
 LAB_ADDRESS = env_str("LAB_ADDRESS", "")
 # Where the QR code on a report points; the verification page lives under it.
 REPORT_VERIFY_BASE_URL = env_str("REPORT_VERIFY_BASE_URL", "http://127.0.0.1:8000")

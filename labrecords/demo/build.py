@@ -87,6 +87,9 @@ def build(*, today: datetime.date | None = None, seed: int = 2026) -> DemoLab:
     technician = lab.staff[Role.TECHNICIAN]
 
     with clock.frozen_at(_at(start, 9)):
+        reference.lab_profile_set(actor=admin, name=scenario.LAB_NAME,
+                                  address=scenario.LAB_ADDRESS,
+                                  accreditation="demo only: no accreditation")
         glasses = {
             row["name"]: reference.glass_create(actor=admin, **row) for row in scenario.GLASSES
         }

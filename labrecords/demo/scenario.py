@@ -3,6 +3,7 @@
 from decimal import Decimal as D
 
 LAB_NAME = "Saltmarsh Thin Film Works (fictional demo lab)"
+LAB_ADDRESS = "7 Heron Quay, Nowhere Bay, Imaginary County"
 
 # username, full name, role, password (demo only; printed by the command)
 STAFF = [
