@@ -113,3 +113,11 @@ def report_for_user(user, number: str):
             "review__reviewer"),
         number=number,
     )
+
+
+def resource_for_user(user, ident: str):
+    """A chamber or bench station: lab staff only (404 for anyone else)."""
+    from durability.models import Resource
+
+    lab_staff_only(user)
+    return get_object_or_404(Resource.objects.select_related("instrument"), ident=ident)
