@@ -77,6 +77,7 @@ class StepRef:
     name: str
     kind: str
     sequence: str
+    hazards: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -403,7 +404,8 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
             steps.append(row)
             previous = step_id
             refs[step_id] = StepRef(step_id, lot.pk, lot.number, piece.pk, piece.ident,
-                                    step.pk, step.name, step.kind, assignment.sequence.label)
+                                    step.pk, step.name, step.kind, assignment.sequence.label,
+                                    tuple(step.hazards or ()))
             lots[lot.number] = lot
     # The pieces of one open run share its length (the longest of their steps).
     for members in run_members.values():

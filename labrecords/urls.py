@@ -1,6 +1,17 @@
 from django.urls import path
 
-from labrecords.views import chambers, evidence, lots, planning, reports, waiting
+from labrecords.views import (
+    chambers,
+    custody,
+    evidence,
+    feeds,
+    lots,
+    planning,
+    reports,
+    resources,
+    schedule,
+    waiting,
+)
 
 app_name = "labrecords"
 
@@ -40,4 +51,25 @@ urlpatterns = [
     path("orders/<int:pk>/results.xlsx", reports.order_results_xlsx, name="order-results-xlsx"),
     path("verify/", reports.verify_lookup, name="report-verify"),
     path("verify/<str:code>/", reports.verify_code, name="report-verify-code"),
+    path("schedule/", schedule.schedule_page, name="schedule"),
+    path("schedule/timeline/", schedule.timeline_page, name="timeline"),
+    path("resources/", resources.ResourceListView.as_view(), name="resources"),
+    path("resources/<str:ident>/", resources.resource_detail, name="resource-detail"),
+    path("resources/<str:ident>/block/", resources.resource_block_add,
+         name="resource-block-add"),
+    path("resources/<str:ident>/broken/", resources.resource_broken, name="resource-broken"),
+    path("resources/<str:ident>/blocks/<int:block_pk>/end/", resources.resource_block_end,
+         name="resource-block-end"),
+    path("calendar/", resources.lab_calendar, name="lab-calendar"),
+    path("calendar/holidays/", resources.holiday_add, name="holiday-add"),
+    path("calendar/holidays/<int:pk>/remove/", resources.holiday_remove, name="holiday-remove"),
+    path("calendar/hours/", resources.lab_hours_set, name="lab-hours-set"),
+    path("feeds/", feeds.feed_tokens, name="feeds"),
+    path("feeds/new/", feeds.feed_token_create, name="feed-token-create"),
+    path("feeds/<int:pk>/revoke/", feeds.feed_token_revoke, name="feed-token-revoke"),
+    path("feeds/<str:token>/<str:ident>.ics", feeds.resource_feed, name="resource-feed"),
+    path("lots/<int:pk>/labels.pdf", custody.lot_labels_pdf, name="lot-labels"),
+    path("pieces/<str:ident>/custody/move/", custody.custody_move, name="custody-move"),
+    path("pieces/<str:ident>/custody/retain/", custody.custody_retain, name="custody-retain"),
+    path("pieces/<str:ident>/custody/dispose/", custody.custody_dispose, name="custody-dispose"),
 ]

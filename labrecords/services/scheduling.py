@@ -48,6 +48,7 @@ class ScheduledStep:
     end: datetime.datetime
     chamber_run: str | None
     fixed: bool
+    hazards: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -98,6 +99,10 @@ class LabSchedule:
     def late(self) -> tuple[LotPromiseRow, ...]:
         return tuple(row for row in self.lots if row.late)
 
+    def hazards(self) -> set[str]:
+        """Every hazard of the scheduled steps (for the safety cautions)."""
+        return {hazard for step in self.steps for hazard in step.hazards}
+
     def steps_on(self, ident: str) -> list[ScheduledStep]:
         return [s for s in self.steps if s.resource == ident]
 
@@ -146,7 +151,7 @@ def compute(inputs: ScheduleInputs, options: SolverOptions | None = None) -> Lab
             step_id=a.step, lot_id=ref.lot_id, lot_number=ref.lot_number,
             piece_ident=ref.piece_ident, name=ref.name, kind=ref.kind, sequence=ref.sequence,
             resource=a.resource, start=aware(a.start), end=aware(a.end),
-            chamber_run=a.chamber_run, fixed=a.fixed))
+            chamber_run=a.chamber_run, fixed=a.fixed, hazards=ref.hazards))
         allowed = inputs.covering.get(a.step)
         if allowed is not None and a.resource not in allowed:
             warnings.append(

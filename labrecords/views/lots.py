@@ -5,10 +5,11 @@ from django.views.decorators.http import require_safe
 from django_filters.views import FilterView
 from django_tables2 import SingleTableMixin
 
-from labrecords import selectors
+from labrecords import selectors, selectors_custody, selectors_schedule
 from labrecords.access import lot_for_user, piece_for_user
 from labrecords.filters import LotFilter
 from labrecords.models import Lot
+from labrecords.roles import is_lab_staff
 from labrecords.tables import LotTable
 
 
@@ -40,6 +41,7 @@ def lot_detail(request, pk: int):
             "lot": lot,
             "pieces": selectors.lot_pieces(lot),
             "audit": selectors.audit_trail(lot),
+            "promise": selectors_schedule.lot_promise(lot),
         },
     )
 
@@ -54,5 +56,7 @@ def piece_detail(request, ident: str):
         {
             "piece": piece,
             "observations": selectors.piece_observations(piece),
+            "custody": selectors_custody.piece_custody(piece)
+            if is_lab_staff(request.user) else None,
         },
     )
