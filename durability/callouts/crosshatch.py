@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from durability.callouts.draft import Draft, ErrorItem, Item, error_at
 from durability.callouts.model import CalloutError, ParseOptions, Requirement
 from durability.callouts.text import FLAGS, Segment
-from durability.callouts.words import blank, scan
+from durability.callouts.words import blank, not_understood, scan
 from durability.grading import (
     CORRESPONDENCE_NOTE,
     BoundaryConvention,
@@ -245,7 +245,7 @@ def read_crosshatch(segment: Segment, options: ParseOptions) -> Draft | ErrorIte
     strays += [word for word, _ in rest.unknown]
     if strays:
         draft.note(
-            f"words not understood, kept for engineering review: {' '.join(strays)!r}",
+            not_understood(" ".join(strays)),
             review=True,
         )
     return draft

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from durability.callouts.draft import Draft, ErrorItem, Item, error_at
 from durability.callouts.model import CalloutError, Requirement
 from durability.callouts.text import FLAGS, Segment, collapse
-from durability.callouts.words import blank, scan
+from durability.callouts.words import blank, not_understood, scan
 
 __all__ = ["Iso9022Host", "leftover_words", "read_iso9022"]
 
@@ -281,6 +281,6 @@ def leftover_words(draft: Draft, text: str, extra_ok: frozenset[str]) -> None:
     rest = scan(text, extra_ok)
     if rest.unknown:
         draft.note(
-            f"words not understood, kept for engineering review: {rest.unknown_text()!r}",
+            not_understood(rest.unknown_text()),
             review=True,
         )

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 from durability.callouts.draft import Draft, Item, error_at
 from durability.callouts.model import CalloutError, Requirement
 from durability.callouts.text import FLAGS, Segment
-from durability.callouts.words import TestMention, blank, scan
+from durability.callouts.words import TestMention, blank, not_understood, scan
 
 __all__ = ["Iso9211Host", "read_iso9211_4"]
 
@@ -296,7 +296,5 @@ def read_iso9211_4(segment: Segment) -> tuple[Iso9211Host | None, list[Item]]:
     host = Iso9211Host(entries=[entry])
     new = host.apply(fields, segment, attaching=False)
     if fields.unknown:
-        entry.draft.note(
-            f"words not understood, kept for engineering review: {fields.unknown!r}", review=True
-        )
+        entry.draft.note(not_understood(fields.unknown), review=True)
     return host, [host, *new]

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from durability.callouts.draft import Draft, Item
 from durability.callouts.model import TEST_KEYS, CalloutError, ParseOptions, Requirement
 from durability.callouts.text import FLAGS, Segment
-from durability.callouts.words import HUMAN, TestMention, blank, scan
+from durability.callouts.words import HUMAN, TestMention, blank, not_understood, scan
 
 __all__ = ["MIL_RE", "MilHost", "MilSpec", "SPECS", "mil_designation", "read_mil"]
 
@@ -181,7 +181,7 @@ class MilHost:
         if self.unknown_words:
             words = " ".join(self.unknown_words)
             draft.note(
-                f"words not understood, kept for engineering review: {words!r}",
+                not_understood(words),
                 review=True,
             )
         return draft.build()

@@ -13,6 +13,7 @@ __all__ = [
     "Scan",
     "TestMention",
     "blank",
+    "not_understood",
     "scan",
 ]
 
@@ -21,7 +22,7 @@ _END = r"(?![a-z0-9])"
 # (key, pattern). "abrasion" and "solubility" alone are not catalogue keys: they do not say which
 # abrasion or which solubility test, and the caller decides what to make of them.
 _ALIASES: tuple[tuple[str, str], ...] = (
-    ("adhesion", r"(?:(?:tape|snap)\s*-?\s*)*adhesion"),
+    ("adhesion", r"(?:(?:tape|snap)\s*-?\s*){0,2}adhesion"),
     ("adhesion", r"(?:cellophane\s*)?tape\s*(?:snap|pull)?\s*(?:test)?"),
     ("adhesion", r"snap\s*tape"),
     ("humidity", r"humidity"),
@@ -109,6 +110,13 @@ class Scan:
     def unknown_text(self) -> str:
         """The words not understood, joined for a message."""
         return " ".join(word for word, _ in self.unknown)
+
+
+def not_understood(words: str) -> str:
+    """The assumption that flags words the parser could not place (long runs shortened)."""
+    if len(words) > 80:
+        words = words[:77] + "..."
+    return f"words not understood, kept for engineering review: {words!r}"
 
 
 def blank(text: str, spans: list[tuple[int, int]]) -> str:

@@ -752,6 +752,12 @@ def test_requirements_are_frozen_and_hashable():
     assert hash(req) == hash(one("ISO 2409 class 1 max"))
 
 
+def test_long_runs_of_words_are_read_and_their_message_shortened():
+    req = one("MIL-C-48497A " + "lorem ipsum " * 500)
+    (note,) = [a for a in req.assumptions if "not understood" in a]
+    assert len(note) < 200 and note.endswith("...'")
+
+
 def test_empty_text_gives_an_empty_result():
     assert parse_callouts("") == ParseResult(requirements=(), errors=())
     assert parse_callouts(" ,, ;\n\n --- ").requirements == ()
