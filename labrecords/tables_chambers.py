@@ -2,7 +2,7 @@
 
 import django_tables2 as tables
 from django.utils import timezone
-from django.utils.html import format_html
+from django.utils.safestring import mark_safe
 
 from labrecords.models import ChamberRun
 
@@ -46,5 +46,5 @@ class ChamberRunTable(tables.Table):
 
     def render_exposure_counts(self, value):
         if value:
-            return format_html('<span class="verdict-pass">counts</span>')
-        return format_html('<span class="verdict-invalid">does not count</span>')
+            return mark_safe('<span class="verdict-pass">counts</span>')
+        return mark_safe('<span class="verdict-invalid">does not count</span>')

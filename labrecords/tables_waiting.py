@@ -3,6 +3,7 @@
 import django_tables2 as tables
 from django.utils import timezone
 from django.utils.html import format_html
+from django.utils.safestring import mark_safe
 
 
 class WaitingTable(tables.Table):
@@ -43,7 +44,7 @@ class WaitingTable(tables.Table):
         return timezone.localtime(value).isoformat()
 
     def render_late(self, value):
-        return format_html('<strong class="late-flag">late</strong>') if value else "no"
+        return mark_safe('<strong class="late-flag">late</strong>') if value else "no"
 
     def value_late(self, value):
         return "late" if value else "no"

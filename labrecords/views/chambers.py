@@ -58,9 +58,13 @@ class ChamberRunListView(LoginRequiredMixin, SingleTableView):
 
     def get_queryset(self):
         latest = ExposureCheck.objects.filter(run=OuterRef("pk")).order_by("-checked_at", "-id")
-        return run_list_queryset(self.request.user).annotate(
-            piece_count=Count("pieces", distinct=True),
-            exposure_counts=Subquery(latest.values("counts")[:1]),
+        return (
+            run_list_queryset(self.request.user)
+            .annotate(
+                piece_count=Count("pieces", distinct=True),
+                exposure_counts=Subquery(latest.values("counts")[:1]),
+            )
+            .order_by("-loaded_at", "-id")
         )
 
     def get_context_data(self, **kwargs):
