@@ -31,6 +31,12 @@ class WaitingTable(tables.Table):
     def render_piece(self, value, record):
         return format_html('<a href="{}">{}</a>', record.piece_url, value)
 
+    def value_lot(self, value):
+        return value
+
+    def value_piece(self, value):
+        return value
+
     def render_waited(self, value, record):
         return record.waited
 
