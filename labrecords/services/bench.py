@@ -18,16 +18,13 @@ nothing of the refused save is kept.
 from __future__ import annotations
 
 import datetime
-import hashlib
 import uuid
 from collections.abc import Iterable, Sequence
 from dataclasses import asdict, dataclass
 from decimal import Decimal
 from typing import Any
 
-from django.conf import settings
 from django.core.exceptions import PermissionDenied, ValidationError
-from django.core.files.storage import default_storage
 from django.db import IntegrityError, transaction
 from django.utils import timezone
 
@@ -59,7 +56,6 @@ from labrecords.models import (
     NonconformanceKind,
     Observation,
     PlanStep,
-    SequencePiece,
     StepResult,
     StepResultConsumable,
     StepResultInstrument,
@@ -68,9 +64,13 @@ from labrecords.models import (
     WitnessPiece,
 )
 from labrecords.roles import Role, has_role
+from labrecords.selectors_chambers import condition_of, latest_check
+from labrecords.selectors_progress import progress_of_pieces
+from labrecords.services import chambers as chamber_services
 from labrecords.services import observations as observation_services
-from labrecords.services.audit import audit_record, create_audited, snapshot
+from labrecords.services.audit import audit_record, snapshot
 from labrecords.services.authorisations import require_method_authorisation
+from labrecords.services.evidence import display_name, evidence_create, upload_bytes
 from labrecords.services.lots import lot_stage_set
 from labrecords.services.nonconformances import nonconformance_open
 from labrecords.services.observations import StaleRevisionError
@@ -98,12 +98,14 @@ class InspectionEntry:
 
 @dataclass(frozen=True)
 class ChamberRunEntry:
-    """A chamber run recorded at the bench: which chamber, when it was loaded and unloaded."""
+    """A chamber run recorded at the bench: which chamber, when it was loaded and unloaded.
+
+    The run is made by the chamber services (load, then unload) with the step's condition.
+    """
 
     chamber: Instrument
     loaded_at: datetime.datetime
     unloaded_at: datetime.datetime
-    condition: str = ""
 
 
 @dataclass(frozen=True)
@@ -291,24 +293,19 @@ def current_released_plan(lot: Lot) -> TestPlan | None:
 
 
 def _check_step_is_open(piece: WitnessPiece, step: PlanStep) -> None:
-    plan = current_released_plan(piece.lot)
-    if plan is None or step.plan_id != plan.pk:
+    progress = progress_of_pieces([piece]).get(piece.pk)
+    if progress is None or step.plan_id != progress.plan.pk:
         raise ValidationError(
             {"step": "This step is not in the current released test plan of the piece's lot."}
         )
-    if not SequencePiece.objects.filter(plan=plan, sequence_id=step.sequence_id,
-                                        piece=piece).exists():
+    if progress.assignment.sequence_id != step.sequence_id:
         raise ValidationError(
             {"step": f"Piece {piece.ident} does not go through sequence {step.sequence.label}."}
         )
-    earlier = list(PlanStep.objects.filter(sequence_id=step.sequence_id, order__lt=step.order)
-                   .order_by("order"))
-    done = set(StepResult.objects.current().filter(
-        piece=piece, step_key__in=[s.step_key for s in earlier]).values_list("step_key", flat=True))
-    for before in earlier:
-        if before.step_key not in done:
-            raise ValidationError({"step": (
-                f"Step {before.order} ({before.name}) comes first: record it before this one.")})
+    following = progress.open_step
+    if following is not None and following.pk != step.pk and step.order > following.order:
+        raise ValidationError({"step": (
+            f"Step {following.order} ({following.name}) comes first: record it before this one.")})
 
 
 def _save(*, actor, piece: WitnessPiece, step: PlanStep, observed_at: datetime.datetime,
@@ -327,9 +324,9 @@ def _save(*, actor, piece: WitnessPiece, step: PlanStep, observed_at: datetime.d
     _check_sections(sections, step, values, chamber_run, new_run)
     if uncertainty is not None and not uncertainty_unit.strip():
         raise ValidationError({"uncertainty_unit": "Give the unit of the uncertainty."})
-    checked_photos = [_photo_kind(upload) for upload in photos]
-    if len(checked_photos) > MAX_PHOTOS:
+    if len(photos) > MAX_PHOTOS:
         raise ValidationError({"photos": f"At most {MAX_PHOTOS} photos per entry."})
+    checked_photos = [photo_check(upload) for upload in photos]
 
     instruments = list(dict.fromkeys(instruments))
     consumables = list(dict.fromkeys(consumables))
@@ -339,9 +336,9 @@ def _save(*, actor, piece: WitnessPiece, step: PlanStep, observed_at: datetime.d
                 f"Instrument {instrument.ident} is out of service and cannot be used.")})
     run = chamber_run
     if run is not None:
-        _check_run(run, observed_at)
+        _check_run(run, piece, step, observed_at)
     elif new_run is not None:
-        _check_new_run(new_run, observed_at, now)
+        _check_new_run(new_run, observed_at)
 
     # Validity: what the technician picked must be usable on the day of the test.
     picked = verdicts.ValidityFacts(
@@ -370,9 +367,16 @@ def _save(*, actor, piece: WitnessPiece, step: PlanStep, observed_at: datetime.d
         conventions.append(exposure_convention)
 
     if run is None and new_run is not None:
-        run = _chamber_run_create(actor=actor, entry=new_run, step=step)
-    if run is not None and not ChamberRunPiece.objects.filter(run=run, piece=piece).exists():
-        ChamberRunPiece.objects.create(run=run, piece=piece, step_key=step.step_key)
+        # The chamber services load and unload the run, with their own checks.
+        try:
+            run = chamber_services.chamber_run_create(
+                actor=actor, chamber=new_run.chamber, method_version=step.method_version,
+                condition=condition_of(step.parameters), loaded_at=new_run.loaded_at,
+                pieces=[piece])
+            run = chamber_services.chamber_run_unload(actor=actor, run=run,
+                                                      unloaded_at=new_run.unloaded_at)
+        except ValidationError as exc:
+            raise ValidationError(_run_fields(exc)) from None
     observation = _observation(actor=actor, piece=piece, step=step, values=values,
                                observed_at=observed_at, previous=previous, reason=reason)
 
@@ -406,9 +410,8 @@ def _save(*, actor, piece: WitnessPiece, step: PlanStep, observed_at: datetime.d
         for i in instruments)
     StepResultConsumable.objects.bulk_create(
         StepResultConsumable(result=result, consumable=c) for c in consumables)
-    stored = [photo_store(actor=actor, piece=piece, step_key=step.step_key, upload=upload,
-                          checked=kind) for upload, kind in zip(photos, checked_photos,
-                                                                strict=True)]
+    stored = [photo_store(actor=actor, piece=piece, step_key=step.step_key, photo=photo)
+              for photo in checked_photos]
     after = {**snapshot(result), "instruments": [i.ident for i in instruments],
              "consumables": [f"{c.name} lot {c.supplier_lot}" for c in consumables],
              "photos": [e.sha256 for e in stored]}
@@ -505,35 +508,49 @@ def _sentence(text: str) -> str:
     return text[:1].upper() + text[1:]
 
 
-def _check_run(run: ChamberRun, observed_at: datetime.datetime) -> None:
+def _check_run(run: ChamberRun, piece: WitnessPiece, step: PlanStep,
+               observed_at: datetime.datetime) -> None:
+    if not ChamberRunPiece.objects.filter(run=run, piece=piece,
+                                          step_key=step.step_key).exists():
+        raise ValidationError({"chamber_run": (
+            f"Run {run.ident} did not hold piece {piece.ident} for this step.")})
     if run.unloaded_at is None:
         raise ValidationError({"chamber_run": (
-            f"Run {run.ident} has not been unloaded yet: record the result once it has ended.")})
+            f"Run {run.ident} has not been unloaded yet: unload it first, then record the "
+            "result.")})
     if observed_at < run.unloaded_at:
         raise ValidationError({"observed_at": (
             f"The result is observed after run {run.ident} ends "
             f"({timezone.localtime(run.unloaded_at):%Y-%m-%d %H:%M}).")})
 
 
-def _check_new_run(entry: ChamberRunEntry, observed_at: datetime.datetime,
-                   now: datetime.datetime) -> None:
+_RUN_FIELDS = {"loaded_at": "run_loaded_at", "unloaded_at": "run_unloaded_at"}
+
+
+def _run_fields(error: ValidationError) -> dict[str, list[str]]:
+    """The chamber services' messages under the bench form's field names."""
+    if not hasattr(error, "error_dict"):
+        return {"run_chamber": error.messages}
+    fields: dict[str, list[str]] = {}
+    for key, messages in error.message_dict.items():
+        fields.setdefault(_RUN_FIELDS.get(key, "run_chamber"), []).extend(messages)
+    return fields
+
+
+def _check_new_run(entry: ChamberRunEntry, observed_at: datetime.datetime) -> None:
     if entry.unloaded_at <= entry.loaded_at:
         raise ValidationError({"run_unloaded_at": "The run must end after it starts."})
-    if entry.unloaded_at > now:
-        raise ValidationError({"run_unloaded_at": "The run's end cannot be in the future."})
     if observed_at < entry.unloaded_at:
         raise ValidationError({"observed_at": "The result is observed after the run ends."})
-    if not entry.chamber.in_service:
-        raise ValidationError({"run_chamber": f"{entry.chamber.ident} is out of service."})
 
 
 def _exposure(run: ChamberRun | None, sections: tuple[str, ...]) -> tuple[bool | None, str, str]:
-    if run is None or run.pk is None:
+    if run is None:
         if "chamber" in sections:
             return None, "", ("the exposure has not been checked against the chamber log: "
                               "it counts unless a later check says otherwise")
         return None, "", ""
-    check = run.exposure_checks.order_by("-checked_at", "-id").first()
+    check = latest_check(run)
     if check is None:
         return None, "", (f"run {run.ident} has not been checked against its chamber log: "
                           "the exposure counts unless a later check says otherwise")
@@ -757,33 +774,6 @@ def _open_nonconformance(*, actor, result: StepResult) -> Nonconformance | None:
                      f"({result.step.name}) {what}: {result.verdict_reason}"))
 
 
-def _chamber_run_create(*, actor, entry: ChamberRunEntry, step: PlanStep) -> ChamberRun:
-    stem = f"{entry.chamber.ident}-{timezone.localtime(entry.loaded_at):%y%m%d-%H%M}"
-    ident = stem
-    suffix = 2
-    while ChamberRun.objects.filter(ident=ident).exists():
-        ident = f"{stem}-{suffix}"
-        suffix += 1
-    condition = entry.condition.strip() or step_condition(step)
-    run = ChamberRun(ident=ident, chamber=entry.chamber, method_version=step.method_version,
-                     condition=condition[:120], loaded_at=entry.loaded_at,
-                     unloaded_at=entry.unloaded_at, loaded_by=actor)
-    create_audited(actor=actor, obj=run, reason="recorded at the bench")
-    return run
-
-
-def step_condition(step: PlanStep) -> str:
-    """The plan's conditions for the step in words (the default condition of a new run)."""
-    parts = []
-    for name, spec in step.parameters.items():
-        value = spec.get("value") if isinstance(spec, dict) else spec
-        if value in (None, "") or name in ("severity_table",):
-            continue
-        unit = spec.get("unit", "") if isinstance(spec, dict) else ""
-        parts.append(f"{name.replace('_', ' ')} {value}{(' ' + unit) if unit else ''}")
-    return "; ".join(parts) or step.name
-
-
 # ---------------------------------------------------------------- lot stage
 
 
@@ -837,66 +827,54 @@ def lot_stage_follow(*, actor, lot: Lot) -> Lot:
 
 # ---------------------------------------------------------------- photos
 
-# Magic bytes: JPEG (JFIF/Exif) start FF D8 FF; PNG has an 8-byte signature.
+# Magic bytes: JPEG starts FF D8 FF; PNG has an 8-byte signature. (content type, the name
+# endings that agree with it, the bytes it starts with)
 _PHOTO_TYPES = (
-    ("image/jpeg", ".jpg", b"\xff\xd8\xff", (".jpg", ".jpeg")),
-    ("image/png", ".png", b"\x89PNG\r\n\x1a\n", (".png",)),
+    ("image/jpeg", (".jpg", ".jpeg"), b"\xff\xd8\xff"),
+    ("image/png", (".png",), b"\x89PNG\r\n\x1a\n"),
 )
 
 
 @dataclass(frozen=True)
-class PhotoKind:
+class CheckedPhoto:
+    """An uploaded photo's bytes, its content type from those bytes, and its name as a label."""
+
+    data: bytes
     content_type: str
-    extension: str
+    name: str
 
 
-def _photo_kind(upload: Any) -> PhotoKind:
-    """Check an uploaded photo's size, name and content; refuse with the file named."""
-    name = str(getattr(upload, "name", "") or "photo")
-    limit = settings.EVIDENCE_MAX_BYTES
-    if upload.size > limit:
-        raise ValidationError({"photos": (
-            f"{name}: {upload.size / 1048576:.1f} MB is over the {limit / 1048576:.1f} MB limit "
-            "for a photo.")})
-    upload.seek(0)
-    head = upload.read(16)
-    upload.seek(0)
-    found = next((t for t in _PHOTO_TYPES if head.startswith(t[2])), None)
+def photo_check(upload: Any) -> CheckedPhoto:
+    """Read and check a photo: at most settings.EVIDENCE_MAX_BYTES, a JPEG or PNG by its
+    first bytes, and a name whose ending agrees with them. Refused naming the file."""
+    name = display_name(str(getattr(upload, "name", "") or "photo"))
+    try:
+        data = upload_bytes(upload, field="photos")
+    except ValidationError as exc:
+        raise ValidationError({"photos": f"{name}: {exc.message_dict['photos'][0]}"}) from None
+    found = next((t for t in _PHOTO_TYPES if data.startswith(t[2])), None)
     if found is None:
         raise ValidationError({"photos": (
             f"{name}: the content is not a JPEG or PNG image (checked from the file's first "
             "bytes, not its name).")})
     suffix = "." + name.rsplit(".", 1)[-1].lower() if "." in name else ""
-    if suffix not in found[3]:
-        said = next((t[0] for t in _PHOTO_TYPES if suffix in t[3]), None)
+    if suffix not in found[1]:
+        said = next((t[0] for t in _PHOTO_TYPES if suffix in t[1]), None)
+        named = said.split("/")[1].upper() if said else f"{suffix or 'no type'!r}"
         raise ValidationError({"photos": (
-            f"{name}: the content is a {found[0].split('/')[1].upper()} image but the name says "
-            f"{said.split('/')[1].upper() if said else repr(suffix or 'no type')}; save it "
-            "again with the right type.")})
-    return PhotoKind(content_type=found[0], extension=found[1])
+            f"{name}: the content is a {found[0].split('/')[1].upper()} image but the name "
+            f"says {named}; save it again with the right type.")})
+    return CheckedPhoto(data=data, content_type=found[0], name=name)
 
 
-def photo_store(*, actor, piece: WitnessPiece, step_key: uuid.UUID, upload: Any,
-                checked: PhotoKind | None = None, stage: str = "after",
-                note: str = "") -> Evidence:
-    """Store a photo of a piece at a step as evidence (call inside a transaction).
+def photo_store(*, actor, piece: WitnessPiece, step_key: uuid.UUID, photo: CheckedPhoto,
+                stage: str = "after", note: str = "") -> Evidence:
+    """Keep a checked photo of a piece at a step as evidence (call inside a transaction).
 
-    The file is kept under MEDIA_ROOT by its SHA-256 (the client's filename is kept only as
-    a label, never in the path); the same content is stored once.
+    The evidence services store it under MEDIA_ROOT by its SHA-256; the client's file name
+    is kept only as a label, never in the path.
     """
-    kind = checked or _photo_kind(upload)
-    digest = hashlib.sha256()
-    upload.seek(0)
-    for chunk in upload.chunks():
-        digest.update(chunk)
-    sha = digest.hexdigest()
-    path = f"evidence/photos/{sha[:2]}/{sha}{kind.extension}"
-    if not default_storage.exists(path):
-        upload.seek(0)
-        path = default_storage.save(path, upload)
-    evidence = Evidence(
-        kind=EvidenceKind.PHOTO, lot=piece.lot, piece=piece, step_key=step_key, stage=stage,
-        file=path, sha256=sha, original_name=str(getattr(upload, "name", ""))[:200],
-        content_type=kind.content_type, size=upload.size, note=note[:200],
-        uploaded_by=actor, uploaded_at=clock.now())
-    return create_audited(actor=actor, obj=evidence)
+    return evidence_create(
+        actor=actor, kind=EvidenceKind.PHOTO, data=photo.data, original_name=photo.name,
+        content_type=photo.content_type, summary={}, lot=piece.lot, piece=piece,
+        step_key=step_key, stage=stage, note=note)

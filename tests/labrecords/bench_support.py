@@ -79,8 +79,8 @@ def bench_setup(cast, *, callouts: str = "MIL-C-48497A", lot=None,
     microscope = Instrument.objects.filter(ident="MS-T1").first() or InstrumentFactory(
         ident="MS-T1", name="Inspection microscope", kind="microscope",
         calibration_due=TODAY + datetime.timedelta(days=300))
-    chamber = Instrument.objects.filter(ident="HC-T1").first() or InstrumentFactory(
-        ident="HC-T1", name="Humidity chamber", kind="humidity chamber",
+    chamber = InstrumentFactory(
+        ident=f"HC-{piece.ident}", name="Humidity chamber", kind="humidity chamber",
         calibration_due=TODAY + datetime.timedelta(days=300))
     return Bench(plan=plan, piece=piece, steps=steps, technician=cast.technician,
                  engineer=cast.engineer, quality_manager=cast.quality_manager,
@@ -116,9 +116,11 @@ def passing_values(bench: Bench, step: PlanStep) -> dict[str, Any]:
     if "judgement" in sections:
         values.update(judgement_outcome="pass", judgement_reason="no change seen")
     if "chamber" in sections:
-        kwargs["new_run"] = ChamberRunEntry(
-            chamber=bench.chamber, loaded_at=at(TODAY - datetime.timedelta(days=3), 9),
-            unloaded_at=at(TODAY - datetime.timedelta(days=2), 9))
+        # Loaded after the step before was done, unloaded before this one is observed.
+        hour = 8 + min(step.order, 8)
+        kwargs["new_run"] = ChamberRunEntry(chamber=bench.chamber,
+                                            loaded_at=at(TODAY, hour - 1, 10),
+                                            unloaded_at=at(TODAY, hour - 1, 50))
     kwargs["values"] = ResultValues(**values)
     return kwargs
 
