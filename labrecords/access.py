@@ -121,3 +121,28 @@ def resource_for_user(user, ident: str):
 
     lab_staff_only(user)
     return get_object_or_404(Resource.objects.select_related("instrument"), ident=ident)
+
+
+def result_for_user(user, record_key):
+    """The current revision of a step result on a piece the user may see (lab: any)."""
+    from labrecords.models import StepResult
+
+    return get_object_or_404(
+        StepResult.objects.current()
+        .filter(customer_filter(user, "piece__lot__order__customer_id"))
+        .select_related("piece__lot__order__customer", "step__method_version__method__standard"),
+        record_key=record_key,
+    )
+
+
+def nonconformance_for_user(user, number: str):
+    """A nonconformance: lab staff only (404 for anyone else)."""
+    from labrecords.models import Nonconformance
+
+    lab_staff_only(user)
+    return get_object_or_404(
+        Nonconformance.objects.select_related(
+            "lot__order__customer", "result__piece", "result__step", "report", "opened_by",
+            "disposed_by"),
+        number=number,
+    )
