@@ -63,6 +63,8 @@ def _styles() -> dict[str, ParagraphStyle]:
                              spaceBefore=9, spaceAfter=4, keepWithNext=1),
         "h3": ParagraphStyle("h3", parent=base, fontName=FONT_BOLD, fontSize=9.5, leading=12,
                              spaceBefore=6, spaceAfter=3, keepWithNext=1),
+        "h4": ParagraphStyle("h4", parent=base, fontName=FONT_BOLD, fontSize=8.5, leading=11,
+                             spaceBefore=4, spaceAfter=2, keepWithNext=1),
         "box": ParagraphStyle("box", parent=base, borderColor=LINE, borderWidth=0.6,
                               borderPadding=5, backColor=colors.HexColor("#f6f6f6"),
                               spaceBefore=6, spaceAfter=8),
@@ -129,6 +131,7 @@ def _grid(rows: Sequence[Sequence[object]], widths: Sequence[float], *,
           header: bool = True) -> Table:
     table = Table(list(rows), colWidths=list(widths), repeatRows=1 if header else 0)
     commands = [
+        ("FONTNAME", (0, 0), (-1, -1), FONT),
         ("GRID", (0, 0), (-1, -1), 0.4, LINE),
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
         ("LEFTPADDING", (0, 0), (-1, -1), 3),
@@ -161,7 +164,8 @@ def _signature(block: SignatureBlock | None, what: str) -> str:
 def _qr(url: str, size: float = 30 * mm) -> Drawing:
     widget = QrCodeWidget(url, barLevel="M")
     x0, y0, x1, y1 = widget.getBounds()
-    drawing = Drawing(size, size, transform=[size / (x1 - x0), 0, 0, size / (y1 - y0), 0, 0])
+    drawing = Drawing(size, size, transform=[size / (x1 - x0), 0, 0, size / (y1 - y0), 0, 0],
+                      initialFontName=FONT)
     drawing.add(widget)
     return drawing
 
@@ -250,17 +254,26 @@ def _results(c: ReportContent, s) -> list[Flowable]:
     story: list[Flowable] = [_p("Results", s["h2"])]
     if not c.results:
         return [*story, _p("No results are recorded.", s["body"])]
-    rows = [_head(["Piece", "Step", "Result", "Verdict", "Reason", "Uncertainty"], s)]
+    # One table per piece: readable, and a table split over pages re-measures only its own
+    # rows (one long table would be re-measured at every page break).
+    widths = [36 * mm, 38 * mm, 16 * mm, 56 * mm, BODY_WIDTH - 146 * mm]
+    by_piece: dict[str, list] = {}
     for r in c.results:
-        verdict = r.verdict_label + (f" [{r.external_marker}]" if r.external_marker else "")
-        reason = r.reason + (f" ({r.clause})" if r.clause and r.clause not in r.reason else "")
-        if r.note:
-            reason += f" Note: {r.note}."
-        rows.append([_p(r.piece, s["small"]), _p(f"{r.step}\n{r.method}", s["small"]),
-                     _lines(r.values or ("recorded",), s["small"]), _p(verdict, s["small"]),
-                     _p(reason, s["small"]), _p(r.uncertainty or "not stated", s["small"])])
-    widths = [20 * mm, 34 * mm, 34 * mm, 15 * mm, 48 * mm, BODY_WIDTH - 151 * mm]
-    story.append(_grid(rows, widths))
+        by_piece.setdefault(r.piece, []).append(r)
+    for piece, results in by_piece.items():
+        rows = [_head(["Step", "Result", "Verdict", "Reason", "Uncertainty"], s)]
+        for r in results:
+            verdict = r.verdict_label + (f" [{r.external_marker}]" if r.external_marker else "")
+            reason = r.reason + (f" ({r.clause})" if r.clause and r.clause not in r.reason
+                                 else "")
+            if r.note:
+                reason += f" Note: {r.note}."
+            rows.append([_p(f"{r.step}\n{r.method}", s["small"]),
+                         _lines(r.values or ("recorded",), s["small"]),
+                         _p(verdict, s["small"]), _p(reason, s["small"]),
+                         _p(r.uncertainty or "not stated", s["small"])])
+        story.append(_p(f"Witness piece {piece}", s["h4"]))
+        story.append(_grid(rows, widths))
     story.append(_p(
         "Uncertainty is the expanded uncertainty as recorded with the result; 'not stated' "
         "means none was recorded (a visual grade has none).", s["small"]))
@@ -330,7 +343,8 @@ def _statements_and_signatures(c: ReportContent, s) -> list[Flowable]:
             "the PDF file as issued. The page shows nothing else.", s["body"])
         table = Table([[_qr(c.header.verify_url), text]],
                       colWidths=[34 * mm, BODY_WIDTH - 34 * mm])
-        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE")]))
+        table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                                   ("FONTNAME", (0, 0), (-1, -1), FONT)]))
         story += [Spacer(1, 6), KeepTogether([table])]
     return story
 
@@ -367,7 +381,7 @@ def render_report(content: ReportContent) -> bytes:
         buffer, pagesize=PAGE, leftMargin=MARGIN_X, rightMargin=MARGIN_X,
         topMargin=MARGIN_TOP, bottomMargin=MARGIN_BOTTOM, title=h.title,
         author=content.lab.name, subject=h.number or "draft", creator="Records",
-        producer="Records (reportlab)", invariant=1,
+        producer="Records (reportlab)", invariant=1, initialFontName=FONT, initialFontSize=9,
     )
     frame = Frame(MARGIN_X, MARGIN_BOTTOM, BODY_WIDTH, PAGE[1] - MARGIN_TOP - MARGIN_BOTTOM,
                   id="body", leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0)

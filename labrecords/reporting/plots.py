@@ -51,7 +51,8 @@ def _tick_text(value: float) -> str:
 def spectrum_drawing(plot: SpectrumPlotData, width: float = 480, height: float = 260) -> Drawing:
     """The before/after curves with the limits, as a reportlab Drawing (points)."""
     register_fonts()
-    drawing = Drawing(width, height)
+    # Without an initial font the renderer would start the drawing in Helvetica.
+    drawing = Drawing(width, height, initialFontName=FONT)
     left, right, bottom, top = 48.0, width - 10.0, 34.0, height - 22.0
     drawing.add(String(left, height - 12, plot.title, fontName=FONT_BOLD, fontSize=8.5))
     curves = [c for c in (plot.before, plot.after) if c]

@@ -105,3 +105,97 @@ def add_uncertainty(result: StepResult, *, by, value: str, unit: str) -> StepRes
         uncertainty=Decimal(value), uncertainty_unit=unit)
     correction.save()
     return correction
+
+
+def synthetic_content(*, pieces: int = 40, steps: int = 7, plots: int = 2,
+                      kind: str = "report", number: str = "R26-0042"):
+    """A ReportContent built in memory (no database): for layout tests and the benchmark.
+
+    Values carry the symbols reportlab's built-in fonts lack (≤, Δ, λ, µ, °).
+    """
+    import math
+    import zoneinfo
+
+    from labrecords.reporting.content import (
+        ConformityBlock,
+        CustomerBlock,
+        DatesBlock,
+        ExposureLine,
+        ItemsBlock,
+        LabBlock,
+        LimitLine,
+        MethodLine,
+        PieceLine,
+        ReportContent,
+        ReportHeader,
+        ResultLine,
+        SignatureBlock,
+        SpectrumPlotData,
+    )
+
+    zone = zoneinfo.ZoneInfo("Europe/Berlin")
+    issued = datetime.datetime(2026, 10, 20, 15, 30, tzinfo=zone)
+    idents = [f"SYN-W{i + 1:02d}" for i in range(pieces)]
+    results = tuple(
+        ResultLine(piece=ident, step=f"A.{s + 1} Step {s + 1}", method="LAB:synthetic",
+                   values=(f"Δλ: {0.1 * s:.1f} nm", "R average ≤ 0.5 %", "temperature: 49 °C",
+                           "film: 1.2 µm"),
+                   verdict="pass", verdict_label="Pass",
+                   reason="within the limit (R average ≤ 0.5 %, clause 4.1)", clause="4.1",
+                   uncertainty="± 0.05 %" if s % 2 else "", observed=issued, revision=1)
+        for ident in idents for s in range(steps))
+
+    def curve(shift: float) -> tuple[tuple[float, float], ...]:
+        return tuple((float(w), 0.3 + 0.25 * math.cos((w - 550 - shift) / 60.0))
+                     for w in range(380, 781, 2))
+
+    spectra = tuple(
+        SpectrumPlotData(title=f"Piece {idents[i]}: R before and after the tests", quantity="R",
+                         unit="%", before=curve(0), after=curve(8), before_label="before",
+                         after_label="after",
+                         limits=(LimitLine(400, 700, 0.5, "R max 0.5 % (average)"),), notes=())
+        for i in range(plots))
+    signer = SignatureBlock(printed_name="Ivo Invented", role="reviewer", meaning="approval",
+                            meaning_label="Approved: the report is authorised for issue",
+                            signed_at=issued, time_zone="Europe/Berlin")
+    return ReportContent(
+        header=ReportHeader(number=number, kind=kind, title=f"Test report {number}",
+                            issued_at=issued, verification_code="ABCD-EFGH-IJKL-MNOP",
+                            verify_url="http://testserver/verify/ABCD-EFGH-IJKL-MNOP/",
+                            amends_number="R26-0041" if kind == "amendment" else "",
+                            change_description="A value was corrected." if kind != "report"
+                            else ""),
+        lab=LabBlock(name="Invented Coating Test Lab", address="1 Nowhere Way",
+                     time_zone="Europe/Berlin"),
+        customer=CustomerBlock(name="Invented Lens Works", contact_name="Ivy Invented",
+                               contact_email="", address="9 Made-up Lane", order_number="O-1",
+                               customer_order_number="PO-9"),
+        items=ItemsBlock(lot_number="L26-0001", coater="Box coater A", design="BBAR-4070",
+                         design_detail="Multilayer AR", glass="Crown", parts="eyepiece lenses",
+                         quantity=40, spec="E-2000", callouts="MIL-C-48497A",
+                         pieces=tuple(PieceLine(ident=i, glass="Crown", position="ring 1",
+                                                represents="eyepiece lenses",
+                                                condition_on_receipt="no defects observed")
+                                      for i in idents)),
+        dates=DatesBlock(coating_run=datetime.date(2026, 10, 1),
+                         received=datetime.date(2026, 10, 2),
+                         tested_from=datetime.date(2026, 10, 5),
+                         tested_to=datetime.date(2026, 10, 15), issued=issued),
+        methods=tuple(MethodLine(code=f"LAB:synthetic-{s}", name=f"Step {s + 1}",
+                                 standard="LAB", edition="2026", clause="4.1", version=1,
+                                 parameters=("temperature 49 °C",), deviations=("none",))
+                      for s in range(steps)),
+        results=results, externals=(),
+        exposures=(ExposureLine(run="HC-26-001", chamber="HC-01 Humidity chamber",
+                                condition="49 °C, 95-100 % RH, 24 h", loaded=issued,
+                                unloaded=issued, pieces=tuple(idents[:5]),
+                                in_tolerance_hours=24.3, required_hours=24.0, counts=True,
+                                convention="linear interpolation between readings",
+                                checked=True),),
+        spectra=spectra,
+        conformity=ConformityBlock(conforms=True, statement="Lot L26-0001 conforms.",
+                                   covers="all results", specification="coating spec E-2000",
+                                   decision_rule="Simple acceptance",
+                                   decision_rule_text="Simple acceptance.", failing=()),
+        statements=("The results relate only to the items tested.",),
+        review_signature=signer, authorisation=signer)
