@@ -107,10 +107,10 @@ def resource_block_create(*, actor, resource: Resource, starts_at: datetime.date
     ends_at = _aware(ends_at, "ends_at")
     if not reason.strip():
         raise ValidationError({"reason": "Say why the resource is blocked."})
-    if ends_at <= starts_at:
-        raise ValidationError({"ends_at": "The block must end after it starts."})
     if ends_at <= clock.now():
         raise ValidationError({"ends_at": "This block would already be over."})
+    if ends_at <= starts_at:
+        raise ValidationError({"ends_at": "The block must end after it starts."})
     block = ResourceBlock(resource=resource, starts_at=starts_at, ends_at=ends_at,
                           reason=reason.strip(), created_by=actor, created_at=clock.now())
     return create_audited(actor=actor, obj=block, reason=reason.strip())
@@ -119,8 +119,16 @@ def resource_block_create(*, actor, resource: Resource, starts_at: datetime.date
 def resource_mark_broken(*, actor, resource: Resource, expected_end: datetime.datetime,
                          reason: str) -> ResourceBlock:
     """A breakdown: block the resource from now until the expected end of the repair."""
-    return resource_block_create(actor=actor, resource=resource, starts_at=clock.now(),
-                                 ends_at=expected_end, reason=reason)
+    try:
+        return resource_block_create(actor=actor, resource=resource, starts_at=clock.now(),
+                                     ends_at=expected_end, reason=reason)
+    except ValidationError as exc:
+        # Name the field as this service's caller knows it.
+        if hasattr(exc, "message_dict") and "ends_at" in exc.message_dict:
+            errors = dict(exc.message_dict)
+            errors["expected_end"] = errors.pop("ends_at")
+            raise ValidationError(errors) from None
+        raise
 
 
 @transaction.atomic
