@@ -22,12 +22,13 @@ SHEET = "results"
 
 def results_frame(rows: Sequence[dict[str, object]]) -> pd.DataFrame:
     """The rows as a table, value columns after the fixed ones, every cell escaped."""
-    frame = pd.DataFrame(list(rows))
+    # object dtype: a whole-number column with gaps stays whole numbers (not floats)
+    frame = pd.DataFrame(list(rows), dtype=object)
     if frame.empty:
         frame = pd.DataFrame(columns=["order", "lot", "piece", "step", "verdict", "reason"])
     fixed = [c for c in frame.columns if not str(c).startswith("value: ")]
     values = sorted(c for c in frame.columns if str(c).startswith("value: "))
-    frame = frame[fixed + values].astype(object)
+    frame = frame[fixed + values]
     frame = frame.where(frame.notna(), None)
     return frame.map(escape_cell)
 
