@@ -15,7 +15,9 @@ from typing import Any
 from django.core.exceptions import ValidationError
 from django.utils import timezone
 
+from durability.dewpoint import dew_point
 from durability.durations import CHAMBER_KINDS
+from durability.errors import InputError
 from durability.exposure.verify import DurationRule, ExposureCondition, SevereSide
 from durability.models import MethodKind, MethodVersion, Resource
 from durability.safety import cautions_for
@@ -208,7 +210,7 @@ def exposure_requirement(version: MethodVersion) -> ExposureRequirement:
             rh_max_percent=_value(parameters, "rh_max_pct"),
             temperature_severe_side=SevereSide.LOWER if cold else SevereSide.HIGHER,
         )
-    except Exception as exc:  # InputError from the pure code: a parameter is unusable
+    except InputError as exc:  # a parameter the pure code cannot use
         raise ValidationError({"method_version": f"{label}: {exc}"}) from None
     rule_text = _text(version.extra or {}, "duration_rule").lower()
     rule = DurationRule(rule_text) if rule_text in {r.value for r in DurationRule} else None
@@ -219,6 +221,44 @@ def exposure_requirement(version: MethodVersion) -> ExposureRequirement:
     if start_when_stable:
         notes.append(f"{label}: exposure starts {start_text}")
     return ExposureRequirement(condition, hours, rule, start_when_stable, tuple(notes))
+
+
+def dew_points_for(condition: ExposureCondition) -> dict[str, Any]:
+    """Dew point (Magnus) of the set point at each end of the humidity range."""
+    setpoint = condition.temperature_setpoint_c
+    rows = []
+    for rh in (condition.rh_min_percent, condition.rh_max_percent):
+        if setpoint is None or rh is None or rh <= 0:
+            continue
+        try:
+            result = dew_point(setpoint, rh)
+        except InputError as exc:
+            rows.append({"rh_percent": rh, "error": str(exc)})
+            continue
+        rows.append(
+            {
+                "rh_percent": rh,
+                "dew_point_c": round(result.dew_point_c, 2),
+                "frost_point_c": None
+                if result.frost_point_c is None
+                else round(result.frost_point_c, 2),
+                "coefficients": result.coefficients.label,
+            }
+        )
+    if not rows:
+        return {
+            "temperature_c": setpoint,
+            "rows": [],
+            "note": "the condition has no humidity range: no dew point",
+        }
+    return {
+        "temperature_c": setpoint,
+        "rows": rows,
+        "note": (
+            "a piece colder than the dew point fogs when it is loaded (Magnus formula, "
+            "shared/reference/computations.md [pub])"
+        ),
+    }
 
 
 # ---------------------------------------------------------------- the verdict code's question
@@ -588,10 +628,12 @@ def run_page(run: ChamberRun, user) -> RunPage:
     requirement_error = ""
     condition_text = run.condition
     hours_text = ""
+    dew = None
     try:
         requirement = exposure_requirement(run.method_version)
         condition_text = requirement.condition.describe()
         hours_text = f"{requirement.required_hours:g} h"
+        dew = dew_points_for(requirement.condition)
     except ValidationError as exc:
         requirement_error = " ".join(exc.messages)
     logs = list(
@@ -609,7 +651,7 @@ def run_page(run: ChamberRun, user) -> RunPage:
         logs=logs,
         condition_text=condition_text,
         requirement_error=requirement_error,
-        dew_point=summary.get("dew_point") if summary else None,
+        dew_point=dew,
         cautions=cautions_for(run.method_version.hazards),
         hours_text=hours_text,
     )

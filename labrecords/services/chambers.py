@@ -18,7 +18,6 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.utils import timezone
 
-from durability.dewpoint import dew_point
 from durability.durations import CHAMBER_KINDS
 from durability.errors import InputError
 from durability.exposure.logger import read_logger_csv
@@ -42,6 +41,7 @@ from labrecords.models import (
 from labrecords.roles import Role
 from labrecords.selectors_chambers import (
     condition_of,
+    dew_points_for,
     exposure_counts_for,
     exposure_requirement,
 )
@@ -266,44 +266,6 @@ def _compact_readings(verification) -> dict[str, Any]:
     }
 
 
-def _dew_points(condition) -> dict[str, Any]:
-    """Dew point (Magnus) of the set point at each end of the humidity range."""
-    setpoint = condition.temperature_setpoint_c
-    rows = []
-    for rh in (condition.rh_min_percent, condition.rh_max_percent):
-        if setpoint is None or rh is None or rh <= 0:
-            continue
-        try:
-            result = dew_point(setpoint, rh)
-        except InputError as exc:
-            rows.append({"rh_percent": rh, "error": str(exc)})
-            continue
-        rows.append(
-            {
-                "rh_percent": rh,
-                "dew_point_c": round(result.dew_point_c, 2),
-                "frost_point_c": None
-                if result.frost_point_c is None
-                else round(result.frost_point_c, 2),
-                "coefficients": result.coefficients.label,
-            }
-        )
-    if not rows:
-        return {
-            "temperature_c": setpoint,
-            "rows": [],
-            "note": "the condition has no humidity range: no dew point",
-        }
-    return {
-        "temperature_c": setpoint,
-        "rows": rows,
-        "note": (
-            "a piece colder than the dew point fogs when it is loaded (Magnus formula, "
-            "shared/reference/computations.md [pub])"
-        ),
-    }
-
-
 def _verify(
     run: ChamberRun,
     data: bytes,
@@ -377,7 +339,7 @@ def _verify(
                 else "the run is not unloaded yet: the check covers loading to the last reading"
             ),
         },
-        "dew_point": _dew_points(requirement.condition),
+        "dew_point": dew_points_for(requirement.condition),
         "options": {
             "time_zone": zone,
             "date_order": date_order or None,
