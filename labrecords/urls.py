@@ -1,5 +1,6 @@
 from django.urls import path
 
+from labrecords import urls_bench
 from labrecords.views import (
     chambers,
     custody,
@@ -73,3 +74,5 @@ urlpatterns = [
     path("pieces/<str:ident>/custody/retain/", custody.custody_retain, name="custody-retain"),
     path("pieces/<str:ident>/custody/dispose/", custody.custody_dispose, name="custody-dispose"),
 ]
+
+urlpatterns += urls_bench.urlpatterns
