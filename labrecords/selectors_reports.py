@@ -472,11 +472,15 @@ def _spectra(lot: Lot, pieces: Sequence[WitnessPiece]) -> tuple[SpectrumPlotData
         notes: list[str] = []
         quantity, unit = "", "%"
         for stage, evidence in chosen:
+            # Read the file again with the options its import used (the evidence services
+            # keep them in the summary), so the curve is the one that was checked.
+            options = (evidence.summary.get("import") or {}).get("options") or {}
             try:
                 spectrum = parse_spectrum(_evidence_bytes(evidence),
                                           filename=evidence.original_name,
-                                          quantity=evidence.summary.get("quantity") or None,
-                                          y_unit=evidence.summary.get("unit") or None)
+                                          quantity=options.get("quantity") or None,
+                                          x_unit=options.get("x_unit") or None,
+                                          y_unit=options.get("y_unit") or None)
             except (InputError, OSError) as exc:
                 notes.append(f"{stage} spectrum {evidence.original_name} not drawn: {exc}")
                 continue

@@ -35,6 +35,7 @@ from labrecords import clock
 from labrecords.access import require_role
 from labrecords.models import (
     DecisionRule,
+    ExposureCheck,
     Lot,
     LotStage,
     Report,
@@ -117,6 +118,11 @@ def report_missing_items(lot: Lot) -> tuple[Review | None, list[str]]:
             if row.result is not None and row.result.uncertainty is None
             and row.step.kind == "spectral_measurement"
         ]
+    runs = {row.result.chamber_run for row in state.planned
+            if row.result is not None and row.result.chamber_run is not None}
+    checked = set(ExposureCheck.objects.filter(run__in=runs).values_list("run_id", flat=True))
+    items += [f"a checked chamber log for run {run.ident} (its time in tolerance)"
+              for run in sorted(runs, key=lambda r: r.ident) if run.pk not in checked]
     items += [f"a disposition for nonconformance {nc.number}"
               for nc in lot.nonconformances.open().order_by("number")]
     review = latest_review(lot)
