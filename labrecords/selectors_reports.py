@@ -23,6 +23,7 @@ from django.db.models import Q
 
 from durability.errors import InputError
 from durability.verdicts import DecisionRule as VerdictDecisionRule
+from labrecords.lab import lab_identity
 from labrecords.models import (
     ChamberRunPiece,
     DecisionRule,
@@ -64,7 +65,6 @@ from labrecords.reporting.content import (
 )
 from labrecords.reporting.text import label_and_unit, number_text, value_text, values_lines
 
-LAB_NAME_UNSET = "Lab name not set"
 # Spectra longer than this are thinned (every k-th point, ends kept) for the plot only.
 PLOT_MAX_POINTS = 1500
 
@@ -592,6 +592,7 @@ def report_content(
     pieces = sorted({p.piece.pk: p.piece for p in planned}.values(), key=lambda p: p.ident) or \
         list(lot.pieces.select_related("glass").order_by("ident"))
     customer = lot.order.customer
+    identity = lab_identity()
     observed = [_local(r.result.observed_at) for r in planned if r.result is not None]
     results, externals = _results(planned)
     review_signature = None
@@ -607,8 +608,8 @@ def report_content(
     )
     return ReportContent(
         header=header,
-        lab=LabBlock(name=settings.LAB_NAME, address=settings.LAB_ADDRESS,
-                     time_zone=settings.TIME_ZONE),
+        lab=LabBlock(name=identity.name, address=identity.address,
+                     time_zone=settings.TIME_ZONE, accreditation=identity.accreditation),
         customer=CustomerBlock(
             name=customer.name, contact_name=customer.contact_name,
             contact_email=customer.contact_email, address=customer.address,

@@ -56,6 +56,7 @@ class LabBlock:
     name: str
     address: str
     time_zone: str
+    accreditation: str = ""
 
 
 @dataclass(frozen=True)

@@ -197,6 +197,7 @@ def _lab_and_customer(c: ReportContent, s) -> list[Flowable]:
     return [
         _p("Laboratory", s["h2"]),
         _facts([("Name", c.lab.name), ("Address", c.lab.address or "not recorded"),
+                *([("Accreditation", c.lab.accreditation)] if c.lab.accreditation else []),
                 ("Times", f"shown in the lab's time zone, {c.lab.time_zone}")], s),
         _p("Customer", s["h2"]),
         _facts([("Customer", cu.name), ("Contact", contact),

@@ -31,8 +31,10 @@ from django.core.files.storage import default_storage
 from django.db import IntegrityError, transaction
 from django.db.models import Q
 
+from durability.models import LabProfile
 from labrecords import clock
 from labrecords.access import require_role
+from labrecords.lab import lab_identity
 from labrecords.models import (
     DecisionRule,
     ExposureCheck,
@@ -49,7 +51,6 @@ from labrecords.reporting.content import ReportContent, ReportHeader, SignatureB
 from labrecords.reporting.pdf import render_report
 from labrecords.roles import Role
 from labrecords.selectors_reports import (
-    LAB_NAME_UNSET,
     in_force_report,
     lab_zone,
     latest_review,
@@ -97,10 +98,10 @@ def report_missing_items(lot: Lot) -> tuple[Review | None, list[str]]:
     """The review a report would rest on, and every required item still missing (named)."""
     lot = Lot.objects.select_related("order__customer").get(pk=lot.pk)
     items: list[str] = []
-    if not settings.LAB_NAME.strip() or settings.LAB_NAME == LAB_NAME_UNSET:
-        items.append("the lab's name (setting LAB_NAME)")
-    if not settings.LAB_ADDRESS.strip():
-        items.append("the lab's address (setting LAB_ADDRESS)")
+    if not LabProfile.objects.exists() and not settings.LAB_NAME.strip():
+        items.append("the lab's name (record the lab profile, or set LAB_NAME)")
+    if not lab_identity().address.strip():
+        items.append("the lab's address (record the lab profile, or set LAB_ADDRESS)")
     customer = lot.order.customer
     if not (customer.contact_name or customer.contact_email or customer.address):
         items.append(f"the customer's contact details (customer {customer.name}: a contact "

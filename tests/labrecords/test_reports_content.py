@@ -172,3 +172,20 @@ def test_methods_state_standard_edition_clause_version_and_deviations(cast):
     assert "duration 48 h, set in the test plan instead of the method's value" in \
         line.deviations
     assert methods["MIL-C-48497A:adhesion"].deviations == ("none",)
+
+
+def test_the_lab_profile_names_the_lab_and_its_accreditation(cast, settings):
+    from durability.services import lab_profile_set
+
+    settings.LAB_ADDRESS = ""
+    lot = finished_lot(cast)
+    _review, missing = reports.report_missing_items(lot)
+    assert "the lab's address (record the lab profile, or set LAB_ADDRESS)" in missing
+    with clock.frozen_at(NOW):
+        lab_profile_set(actor=cast.administrator, name="Invented Film Test Lab",
+                        address="3 Imaginary Quay, Nowhere", accreditation="invented no. 0001")
+    _review, missing = reports.report_missing_items(lot)
+    assert not any("lab's" in item for item in missing)
+    text = words(render_report(reports.draft_content(lot)))
+    assert "Invented Film Test Lab" in text and "3 Imaginary Quay, Nowhere" in text
+    assert "Accreditation invented no. 0001" in text

@@ -246,11 +246,11 @@ def test_issue_is_refused_naming_each_missing_item(cast, settings):
     with pytest.raises(reports.ReportNotReady) as refused:
         issue(cast, lot)
     items = refused.value.items
-    assert "the lab's address (setting LAB_ADDRESS)" in items
+    assert "the lab's address (record the lab profile, or set LAB_ADDRESS)" in items
     assert f"the date the witness pieces of lot {lot.number} were received" in items
     assert "a signed review of the results" in items
-    assert "Cannot issue the report: missing the lab's address (setting LAB_ADDRESS)." in \
-        refused.value.messages
+    assert ("Cannot issue the report: missing the lab's address (record the lab profile, or "
+            "set LAB_ADDRESS).") in refused.value.messages
 
 
 def test_an_open_nonconformance_withholds_the_report(cast):

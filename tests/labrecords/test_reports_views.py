@@ -165,7 +165,7 @@ def test_issue_refused_shows_the_missing_item(client, cast, settings):
     lot = finished_lot(cast)
     client.force_login(cast.quality_manager)
     page = client.get(f"/lots/{lot.pk}/report/").content.decode()
-    assert "Missing the lab&#x27;s address (setting LAB_ADDRESS)." in page
+    assert "Missing the lab&#x27;s address (record the lab profile, or set LAB_ADDRESS)." in page
     response = client.post(f"/lots/{lot.pk}/report/", {"username": "qm", "password": PASSWORD})
     assert response.status_code == 200
     assert "Cannot issue the report: missing the lab&#x27;s address" in \
