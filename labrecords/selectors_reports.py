@@ -630,6 +630,9 @@ def report_content(
         review_signature=review_signature,
         authorisation=authorisation,
         changes=_changes(amended_review, planned) if amended_review is not None else (),
+        conventions=tuple(dict.fromkeys(
+            str(text) for row in planned if row.result is not None
+            for text in (row.result.conventions or []) if text)),
     )
 
 

@@ -218,3 +218,5 @@ class ReportContent:
     review_signature: SignatureBlock | None
     authorisation: SignatureBlock | None
     changes: tuple[ChangeLine, ...] = field(default=())
+    # Each distinct convention the verdicts state (boundaries, comparisons), once.
+    conventions: tuple[str, ...] = field(default=())

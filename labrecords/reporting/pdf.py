@@ -278,6 +278,10 @@ def _results(c: ReportContent, s) -> list[Flowable]:
     story.append(_p(
         "Uncertainty is the expanded uncertainty as recorded with the result; 'not stated' "
         "means none was recorded (a visual grade has none).", s["small"]))
+    if c.conventions:
+        story.append(_p("Conventions the verdicts used", s["h3"]))
+        story += [_p(f"{number}. {text}", s["small"])
+                  for number, text in enumerate(c.conventions, start=1)]
     if c.externals:
         story.append(_p("Results from outside providers", s["h3"]))
         rows = [_head(["Mark", "Provider", "Their report", "Accreditation", "Covers",

@@ -62,11 +62,72 @@ def value_text(value: object) -> str:
     return str(value)
 
 
+def _inspection_text(entry: Mapping[str, object]) -> str:
+    """A visual inspection: "no defects observed" or its defects, then how it was looked at."""
+    if entry.get("no_defects"):
+        seen = "no defects observed"
+    else:
+        parts = []
+        for defect in entry.get("defects") or []:
+            if not isinstance(defect, Mapping):
+                continue
+            name = str(defect.get("defect", "")).replace("_", " ")
+            where = ", ".join(str(defect[k]) for k in ("zone", "extent") if defect.get(k))
+            grades = ", ".join(f"{k} {defect[k]}" for k in ("quantity", "size", "intensity")
+                               if defect.get(k) not in (None, ""))
+            parts.append(" ".join(x for x in (name, f"({where})" if where else "",
+                                               f"[{grades}]" if grades else "") if x))
+        seen = "; ".join(parts) or "defects recorded"
+    how = ", ".join(str(entry[k]) for k in ("lighting", "background", "magnification")
+                    if entry.get(k))
+    return f"{seen} ({how})" if how else seen
+
+
+def _comparison_text(entry: Mapping[str, object]) -> str:
+    new, worse = entry.get("new_defects") or [], entry.get("worsened") or []
+    if not new and not worse:
+        return "no new or worsened defects against the initial inspection"
+    parts = []
+    if new:
+        parts.append("new: " + ", ".join(value_text(x) for x in new))
+    if worse:
+        parts.append("worsened: " + ", ".join(value_text(x) for x in worse))
+    return "; ".join(parts)
+
+
+def _spectral_text(entry: Mapping[str, object]) -> str:
+    band = entry.get("band_nm") or []
+    band_text = f" {number_text(band[0])}-{number_text(band[1])} nm" if len(band) == 2 else ""
+    unit = str(entry.get("unit") or "")
+    value = entry.get("value")
+    text = f"{entry.get('quantity', '')} {entry.get('statistic', '')}{band_text}: " \
+           f"{value_text(value)} {unit}".strip()
+    uncertainty = entry.get("expanded_uncertainty")
+    if uncertainty not in (None, ""):
+        text += f" (U = {value_text(uncertainty)} {unit})".rstrip()
+    return " ".join(text.split())
+
+
+# Keys whose structure the bench entry defines; anything else is shown generically.
+_SHAPED = {
+    "inspection": lambda v: f"inspection: {_inspection_text(v)}" if isinstance(v, Mapping)
+    else None,
+    "comparison": lambda v: _comparison_text(v) if isinstance(v, Mapping) else None,
+    "spectral": lambda v: "; ".join(_spectral_text(x) for x in v if isinstance(x, Mapping))
+    if isinstance(v, list) else None,
+}
+
+
 def values_lines(values: Mapping[str, object]) -> tuple[str, ...]:
     """A result's entered values, one "label: value unit" line each; empty values left out."""
     lines = []
     for key, value in values.items():
         if value is None or value == "" or value == [] or value == {}:
+            continue
+        shaped = _SHAPED.get(str(key))
+        text = shaped(value) if shaped is not None else None
+        if text:
+            lines.append(text)
             continue
         label, unit = label_and_unit(str(key))
         if isinstance(value, Mapping) and "value" in value:

@@ -87,6 +87,12 @@ def test_a_lot_recorded_at_the_bench_is_reviewed_and_issued(cast):
     adhesion = StepResult.objects.get(piece__lot=lot, step__kind="adhesion")
     assert " ".join(adhesion.verdict_reason.split()) in text
     assert run.ident in text
+    # Each convention a verdict used is stated once, not in every row.
+    assert "Conventions the verdicts used" in text
+    conventions = {c for r in StepResult.objects.filter(piece__lot=lot) for c in r.conventions}
+    assert conventions
+    for convention in conventions:
+        assert text.count(" ".join(convention.split())) == 1
 
 
 def spectrum_csv(offset: float) -> bytes:
