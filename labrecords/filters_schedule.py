@@ -5,8 +5,9 @@ from durability.models import CalendarKind, MethodKind, Resource
 
 class ResourceFilter(django_filters.FilterSet):
     calendar = django_filters.ChoiceFilter(choices=CalendarKind.choices, label="Works")
-    kind = django_filters.ChoiceFilter(choices=MethodKind.choices, label="Runs method kind",
-                                       method="filter_kind")
+    kind = django_filters.ChoiceFilter(
+        choices=MethodKind.choices, label="Runs method kind", method="filter_kind"
+    )
     active = django_filters.BooleanFilter(label="In use")
 
     class Meta:

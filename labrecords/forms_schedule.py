@@ -8,8 +8,15 @@ from django import forms
 
 from labrecords.models import PlaceKind
 
-WEEKDAYS = [(0, "Monday"), (1, "Tuesday"), (2, "Wednesday"), (3, "Thursday"), (4, "Friday"),
-            (5, "Saturday"), (6, "Sunday")]
+WEEKDAYS = [
+    (0, "Monday"),
+    (1, "Tuesday"),
+    (2, "Wednesday"),
+    (3, "Thursday"),
+    (4, "Friday"),
+    (5, "Saturday"),
+    (6, "Sunday"),
+]
 
 
 class _LocalDateTime(forms.DateTimeInput):
@@ -20,16 +27,19 @@ class _LocalDateTime(forms.DateTimeInput):
 
 
 class TimelineForm(forms.Form):
-    days = forms.IntegerField(label="Days shown", min_value=1, max_value=28, initial=7,
-                              required=False)
+    days = forms.IntegerField(
+        label="Days shown", min_value=1, max_value=28, initial=7, required=False
+    )
     resource = forms.CharField(label="Resource", max_length=30, required=False)
 
 
 class BlockForm(forms.Form):
-    starts_at = forms.DateTimeField(label="From", widget=_LocalDateTime(),
-                                    input_formats=["%Y-%m-%dT%H:%M"])
-    ends_at = forms.DateTimeField(label="Until", widget=_LocalDateTime(),
-                                  input_formats=["%Y-%m-%dT%H:%M"])
+    starts_at = forms.DateTimeField(
+        label="From", widget=_LocalDateTime(), input_formats=["%Y-%m-%dT%H:%M"]
+    )
+    ends_at = forms.DateTimeField(
+        label="Until", widget=_LocalDateTime(), input_formats=["%Y-%m-%dT%H:%M"]
+    )
     reason = forms.CharField(label="Reason (maintenance, calibration, ...)", max_length=200)
 
     def clean(self):
@@ -40,8 +50,9 @@ class BlockForm(forms.Form):
 
 
 class BrokenForm(forms.Form):
-    expected_end = forms.DateTimeField(label="Expected back in service", widget=_LocalDateTime(),
-                                       input_formats=["%Y-%m-%dT%H:%M"])
+    expected_end = forms.DateTimeField(
+        label="Expected back in service", widget=_LocalDateTime(), input_formats=["%Y-%m-%dT%H:%M"]
+    )
     reason = forms.CharField(label="What is broken", max_length=200)
 
 
@@ -55,12 +66,12 @@ class HolidayForm(forms.Form):
 
 
 class LabHoursForm(forms.Form):
-    weekdays = forms.TypedMultipleChoiceField(label="Working days", choices=WEEKDAYS,
-                                              coerce=int, widget=forms.CheckboxSelectMultiple)
+    weekdays = forms.TypedMultipleChoiceField(
+        label="Working days", choices=WEEKDAYS, coerce=int, widget=forms.CheckboxSelectMultiple
+    )
     opens = forms.TimeField(label="Opens", widget=forms.TimeInput(attrs={"type": "time"}))
     closes = forms.TimeField(label="Closes", widget=forms.TimeInput(attrs={"type": "time"}))
-    valid_from = forms.DateField(label="Valid from",
-                                 widget=forms.DateInput(attrs={"type": "date"}))
+    valid_from = forms.DateField(label="Valid from", widget=forms.DateInput(attrs={"type": "date"}))
 
     def clean(self):
         data = super().clean()
@@ -71,8 +82,12 @@ class LabHoursForm(forms.Form):
 
 class CustodyMoveForm(forms.Form):
     place_kind = forms.ChoiceField(
-        label="Now at", choices=[(k.value, k.label) for k in (
-            PlaceKind.SHELF, PlaceKind.CHAMBER, PlaceKind.BENCH, PlaceKind.RETURNED)])
+        label="Now at",
+        choices=[
+            (k.value, k.label)
+            for k in (PlaceKind.SHELF, PlaceKind.CHAMBER, PlaceKind.BENCH, PlaceKind.RETURNED)
+        ],
+    )
     place = forms.CharField(label="Where (e.g. shelf B3, HUM-1)", max_length=80)
     note = forms.CharField(label="Note", max_length=200, required=False)
 
@@ -81,7 +96,9 @@ class CustodyRetainForm(forms.Form):
     place = forms.CharField(label="Kept at", max_length=80)
     retain_until = forms.DateField(
         label="Kept until (empty: the lot's first report plus the usual retention)",
-        required=False, widget=forms.DateInput(attrs={"type": "date"}))
+        required=False,
+        widget=forms.DateInput(attrs={"type": "date"}),
+    )
     note = forms.CharField(label="Note", max_length=200, required=False)
 
 
@@ -90,8 +107,13 @@ class CustodyDisposeForm(forms.Form):
 
 
 class LabelsForm(forms.Form):
-    skip = forms.IntegerField(label="Labels already used on the sheet", min_value=0,
-                              max_value=23, initial=0, required=False)
+    skip = forms.IntegerField(
+        label="Labels already used on the sheet",
+        min_value=0,
+        max_value=23,
+        initial=0,
+        required=False,
+    )
 
 
 def local_default(hours: int = 0) -> str:

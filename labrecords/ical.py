@@ -76,9 +76,7 @@ def _property(name: str, value: str) -> str:
     return fold(f"{name}:{value}") + CRLF
 
 
-def calendar_text(
-    events: Iterable[Event], *, name: str, stamp: datetime.datetime
-) -> str:
+def calendar_text(events: Iterable[Event], *, name: str, stamp: datetime.datetime) -> str:
     """A whole VCALENDAR with one VEVENT per event; `stamp` is every event's DTSTAMP."""
     out = [
         _property("BEGIN", "VCALENDAR"),
@@ -106,9 +104,7 @@ def calendar_text(
         if event.location:
             out.append(_property("LOCATION", escape_text(event.location)))
         if event.categories:
-            out.append(
-                _property("CATEGORIES", ",".join(escape_text(c) for c in event.categories))
-            )
+            out.append(_property("CATEGORIES", ",".join(escape_text(c) for c in event.categories)))
         out += [_property("TRANSP", "OPAQUE"), _property("END", "VEVENT")]
     out.append(_property("END", "VCALENDAR"))
     return "".join(out)

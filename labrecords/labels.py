@@ -47,8 +47,9 @@ def _fit(text: str, font: str, size: float, width: float) -> str:
 def _qr(canvas: Canvas, url: str, x: float, y: float, size: float) -> None:
     widget = QrCodeWidget(url, barLevel="M")
     left, bottom, right, top = widget.getBounds()
-    drawing = Drawing(size, size, transform=[size / (right - left), 0, 0,
-                                             size / (top - bottom), 0, 0])
+    drawing = Drawing(
+        size, size, transform=[size / (right - left), 0, 0, size / (top - bottom), 0, 0]
+    )
     drawing.add(widget)
     renderPDF.draw(drawing, canvas, x, y)
     canvas.linkURL(url, (x, y, x + size, y + size), relative=0)
@@ -77,8 +78,7 @@ def labels_pdf(labels: Sequence[Any], *, title: str, skip: int = 0) -> bytes:
             canvas.showPage()
         x, y = label_origin(place)
         pad = 3 * mm
-        _qr(canvas, label.url, x + LABEL_W - QR_SIZE - pad, y + (LABEL_H - QR_SIZE) / 2,
-            QR_SIZE)
+        _qr(canvas, label.url, x + LABEL_W - QR_SIZE - pad, y + (LABEL_H - QR_SIZE) / 2, QR_SIZE)
         line_y = y + LABEL_H - pad - 10
         canvas.setFont(BOLD_FONT, 11)
         canvas.drawString(x + pad, line_y, _fit(label.piece, BOLD_FONT, 11, text_w))

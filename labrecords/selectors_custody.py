@@ -64,12 +64,17 @@ def lot_labels(lot: Lot, base: str) -> list[Label]:
     plan = TestPlan.objects.filter(lot=lot).order_by("-number").first()
     sequence_of: dict[int, str] = {}
     if plan is not None:
-        for piece_id, label, summary in (SequencePiece.objects.filter(plan=plan)
-                                         .values_list("piece_id", "sequence__label",
-                                                      "sequence__summary")):
+        for piece_id, label, summary in SequencePiece.objects.filter(plan=plan).values_list(
+            "piece_id", "sequence__label", "sequence__summary"
+        ):
             sequence_of[piece_id] = f"{label} {summary}".strip()
     return [
-        Label(piece=p.ident, lot=lot.number, glass=p.glass.name,
-              sequence=sequence_of.get(p.pk, "not assigned yet"), url=piece_url(p.ident, base))
+        Label(
+            piece=p.ident,
+            lot=lot.number,
+            glass=p.glass.name,
+            sequence=sequence_of.get(p.pk, "not assigned yet"),
+            url=piece_url(p.ident, base),
+        )
         for p in lot.pieces.select_related("glass").order_by("ident")
     ]

@@ -164,8 +164,9 @@ def round_up(moment: datetime.datetime, step: datetime.timedelta = START_ROUNDIN
     return datetime.datetime.fromtimestamp(rounded, tz=datetime.UTC)
 
 
-def current_lab_hours(day: datetime.date) -> tuple[tuple[int, ...], datetime.time, datetime.time,
-                                                   bool]:
+def current_lab_hours(
+    day: datetime.date,
+) -> tuple[tuple[int, ...], datetime.time, datetime.time, bool]:
     """(weekdays, opens, closes, recorded) in force on `day`; the default when none recorded."""
     row = LabHours.objects.filter(valid_from__lte=day).order_by("-valid_from", "-id").first()
     if row is None:
@@ -229,23 +230,33 @@ def covers(ranges: Mapping[str, Any], parameters: Mapping[str, Any]) -> bool:
     return True
 
 
-def _resource_blocks(resource: Resource, blocks: list[ResourceBlock],
-                     start: datetime.datetime) -> list[BlockInfo]:
+def _resource_blocks(
+    resource: Resource, blocks: list[ResourceBlock], start: datetime.datetime
+) -> list[BlockInfo]:
     out = [BlockInfo(b.pk, b.starts_at, b.ends_at, b.reason) for b in blocks]
     instrument = resource.instrument
     if instrument is not None:
         until = start + OPEN_ENDED_BLOCK
         if not instrument.in_service:
-            out.append(BlockInfo(None, start, until,
-                                 f"instrument {instrument.ident} is out of service"))
+            out.append(
+                BlockInfo(None, start, until, f"instrument {instrument.ident} is out of service")
+            )
         else:
-            expired = aware(datetime.datetime.combine(
-                instrument.calibration_due + datetime.timedelta(days=1), datetime.time()))
+            expired = aware(
+                datetime.datetime.combine(
+                    instrument.calibration_due + datetime.timedelta(days=1), datetime.time()
+                )
+            )
             if expired < until:
-                out.append(BlockInfo(
-                    None, expired, max(until, expired + datetime.timedelta(days=1)),
-                    f"calibration due {instrument.calibration_due:%Y-%m-%d} "
-                    f"(instrument {instrument.ident})"))
+                out.append(
+                    BlockInfo(
+                        None,
+                        expired,
+                        max(until, expired + datetime.timedelta(days=1)),
+                        f"calibration due {instrument.calibration_due:%Y-%m-%d} "
+                        f"(instrument {instrument.ident})",
+                    )
+                )
     return sorted(out, key=lambda b: (b.starts_at, b.ends_at))
 
 
@@ -264,8 +275,9 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
     days, opens, closes, recorded = current_lab_hours(today)
     if not recorded:
         notes.append("No lab hours are recorded: Monday to Friday 08:00-17:00 assumed.")
-    window_hours = _hours(datetime.datetime.combine(today, closes)
-                          - datetime.datetime.combine(today, opens))
+    window_hours = _hours(
+        datetime.datetime.combine(today, closes) - datetime.datetime.combine(today, opens)
+    )
     holidays = tuple(LabHoliday.objects.filter(day__gte=today).values_list("day", flat=True))
 
     resources = list(Resource.objects.filter(active=True).select_related("instrument"))
@@ -277,21 +289,38 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
     for resource in resources:
         unknown = sorted(set(resource.kinds) - set(METHOD_KINDS))
         if unknown:
-            notes.append(f"Resource {resource.ident} names unknown method kinds "
-                         f"{', '.join(unknown)}; they are ignored.")
+            notes.append(
+                f"Resource {resource.ident} names unknown method kinds "
+                f"{', '.join(unknown)}; they are ignored."
+            )
         kinds = tuple(sorted(set(resource.kinds) & set(METHOD_KINDS)))
         blocked = _resource_blocks(resource, blocks_of[resource.pk], start)
-        infos.append(ResourceInfo(resource.ident, resource.name, resource.is_chamber,
-                                  resource.capacity, kinds, tuple(blocked)))
-        resource_rows.append({
-            "id": resource.ident,
-            "kinds": list(kinds),
-            "capacity": resource.capacity,
-            "calendar": "always" if resource.calendar == CalendarKind.ALWAYS else "lab_hours",
-            "blocked": [{"from": _stamp(local_naive(b.starts_at)),
-                         "to": _stamp(local_naive(b.ends_at)), "reason": b.reason}
-                        for b in blocked],
-        })
+        infos.append(
+            ResourceInfo(
+                resource.ident,
+                resource.name,
+                resource.is_chamber,
+                resource.capacity,
+                kinds,
+                tuple(blocked),
+            )
+        )
+        resource_rows.append(
+            {
+                "id": resource.ident,
+                "kinds": list(kinds),
+                "capacity": resource.capacity,
+                "calendar": "always" if resource.calendar == CalendarKind.ALWAYS else "lab_hours",
+                "blocked": [
+                    {
+                        "from": _stamp(local_naive(b.starts_at)),
+                        "to": _stamp(local_naive(b.ends_at)),
+                        "reason": b.reason,
+                    }
+                    for b in blocked
+                ],
+            }
+        )
     by_instrument = {r.instrument_id: r for r in resources if r.instrument_id is not None}
 
     plans = TestPlan.objects.current_released()
@@ -302,28 +331,33 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
         .order_by("plan__lot__number", "sequence__position", "piece__ident")
     )
     steps_of: dict[int, list[PlanStep]] = defaultdict(list)
-    for step in (PlanStep.objects.filter(plan__in=plans)
-                 .select_related("method_version__method")
-                 .order_by("sequence_id", "order")):
+    for step in (
+        PlanStep.objects.filter(plan__in=plans)
+        .select_related("method_version__method")
+        .order_by("sequence_id", "order")
+    ):
         steps_of[step.sequence_id].append(step)
     piece_ids = [a.piece_id for a in assignments]
     done: dict[tuple[int, uuid.UUID], datetime.datetime] = {}
-    for piece_id, step_key, observed_at in (StepResult.objects.current()
-                                            .filter(piece_id__in=piece_ids)
-                                            .values_list("piece_id", "step_key", "observed_at")):
+    for piece_id, step_key, observed_at in (
+        StepResult.objects.current()
+        .filter(piece_id__in=piece_ids)
+        .values_list("piece_id", "step_key", "observed_at")
+    ):
         done[(piece_id, step_key)] = observed_at
     open_runs: dict[tuple[int, uuid.UUID], Any] = {}
     unloaded: dict[tuple[int, uuid.UUID], Any] = {}
     for link in ChamberRunPiece.objects.filter(piece_id__in=piece_ids).select_related("run"):
         target = open_runs if link.run.unloaded_at is None else unloaded
-        previous = target.get((link.piece_id, link.step_key))
-        if previous is None or previous.loaded_at < link.run.loaded_at:
+        seen = target.get((link.piece_id, link.step_key))
+        if seen is None or seen.loaded_at < link.run.loaded_at:
             target[(link.piece_id, link.step_key)] = link.run
     counts: dict[int, bool] = {}
-    for run_id, counted in (ExposureCheck.objects
-                            .filter(run_id__in={run.pk for run in unloaded.values()})
-                            .order_by("run_id", "-checked_at", "-id")
-                            .values_list("run_id", "counts")):
+    for run_id, counted in (
+        ExposureCheck.objects.filter(run_id__in={run.pk for run in unloaded.values()})
+        .order_by("run_id", "-checked_at", "-id")
+        .values_list("run_id", "counts")
+    ):
         counts.setdefault(run_id, counted)
 
     steps: list[dict[str, Any]] = []
@@ -335,8 +369,9 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
     for assignment in assignments:
         piece, lot = assignment.piece, assignment.plan.lot
         # The wait before the first step counts from the end of the coating day.
-        ready = aware(datetime.datetime.combine(lot.run_date + datetime.timedelta(days=1),
-                                                datetime.time()))
+        ready = aware(
+            datetime.datetime.combine(lot.run_date + datetime.timedelta(days=1), datetime.time())
+        )
         previous: str | None = None
         stuck = False
         for step in steps_of[assignment.sequence_id]:
@@ -354,25 +389,34 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
             hours = float(step.hours)
             wait = float(step.wait_hours_before)
             row: dict[str, Any] = {
-                "id": step_id, "piece": piece.ident, "lot": lot.number, "kind": step.kind,
-                "condition": step_condition(step), "hours": hours, "after": [],
+                "id": step_id,
+                "piece": piece.ident,
+                "lot": lot.number,
+                "kind": step.kind,
+                "condition": step_condition(step),
+                "hours": hours,
+                "after": [],
                 "wait_hours": 0.0,
             }
             able = [r for r in resources if step.kind in r.kinds and step.kind in METHOD_KINDS]
             running = open_runs.get(key)
             if running is not None:
-                resource = by_instrument.get(running.chamber_id)
-                if resource is not None and resource in able:
-                    row["fixed"] = {"resource": resource.ident,
-                                    "start": _stamp(local_naive(running.loaded_at))}
+                chamber = by_instrument.get(running.chamber_id)
+                if chamber is not None and chamber in able:
+                    row["fixed"] = {
+                        "resource": chamber.ident,
+                        "start": _stamp(local_naive(running.loaded_at)),
+                    }
                     row["condition"] = f"chamber run {running.ident}"
                     run_members[running.pk].append(row)
                 else:
                     # Running in a chamber the schedule does not know: the piece is busy
                     # until the run's expected end, and its next step waits for that.
-                    notes.append(f"Chamber run {running.ident} is in a chamber without an "
-                                 "active resource; its pieces are taken as busy until its "
-                                 "expected end.")
+                    notes.append(
+                        f"Chamber run {running.ident} is in a chamber without an "
+                        "active resource; its pieces are taken as busy until its "
+                        "expected end."
+                    )
                     ready = running.loaded_at + datetime.timedelta(hours=hours)
                     continue
             else:
@@ -382,17 +426,25 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
                 else:
                     fit = [r for r in able if covers(r.condition_ranges, step.parameters)]
                     if not fit:
-                        reason = ("no resource's condition ranges cover this step's "
-                                  "temperature or humidity")
+                        reason = (
+                            "no resource's condition ranges cover this step's "
+                            "temperature or humidity"
+                        )
                     elif len(fit) < len(able):
                         covering[step_id] = frozenset(r.ident for r in fit)
-                    if reason is None and all(not r.is_chamber for r in able) \
-                            and hours > window_hours:
-                        reason = (f"{hours:g} h does not fit in one lab-hours window "
-                                  f"({window_hours:g} h); bench steps are not split")
+                    if (
+                        reason is None
+                        and all(not r.is_chamber for r in able)
+                        and hours > window_hours
+                    ):
+                        reason = (
+                            f"{hours:g} h does not fit in one lab-hours window "
+                            f"({window_hours:g} h); bench steps are not split"
+                        )
                 if reason is not None:
-                    unschedulable.append(Unschedulable(lot.pk, lot.number, piece.ident,
-                                                       step.name, step.kind, reason))
+                    unschedulable.append(
+                        Unschedulable(lot.pk, lot.number, piece.ident, step.name, step.kind, reason)
+                    )
                     stuck = True
                     continue
                 if previous is not None:
@@ -403,9 +455,18 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
                     row["wait_hours"] = round(max(0.0, _hours(due_ready - start)), 4)
             steps.append(row)
             previous = step_id
-            refs[step_id] = StepRef(step_id, lot.pk, lot.number, piece.pk, piece.ident,
-                                    step.pk, step.name, step.kind, assignment.sequence.label,
-                                    tuple(step.hazards or ()))
+            refs[step_id] = StepRef(
+                step_id,
+                lot.pk,
+                lot.number,
+                piece.pk,
+                piece.ident,
+                step.pk,
+                step.name,
+                step.kind,
+                assignment.sequence.label,
+                tuple(step.hazards or ()),
+            )
             lots[lot.number] = lot
     # The pieces of one open run share its length (the longest of their steps).
     for members in run_members.values():
@@ -414,27 +475,44 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
             member["hours"] = longest
 
     lot_rows = [
-        {"id": number,
-         "due": None if lot.order.due_date is None else _stamp(datetime.datetime.combine(
-             lot.order.due_date + datetime.timedelta(days=1), datetime.time())),
-         "priority": 1 if lot.stage == LotStage.RETEST else 0}
+        {
+            "id": number,
+            "due": None
+            if lot.order.due_date is None
+            else _stamp(
+                datetime.datetime.combine(
+                    lot.order.due_date + datetime.timedelta(days=1), datetime.time()
+                )
+            ),
+            "priority": 1 if lot.stage == LotStage.RETEST else 0,
+        }
         for number, lot in sorted(lots.items())
     ]
     workload = {
         "start": _stamp(start_local),
-        "lab_hours": {"days": list(days), "from": opens.strftime("%H:%M"),
-                      "to": closes.strftime("%H:%M")},
+        "lab_hours": {
+            "days": list(days),
+            "from": opens.strftime("%H:%M"),
+            "to": closes.strftime("%H:%M"),
+        },
         "holidays": [d.isoformat() for d in holidays],
         "resources": resource_rows,
         "lots": lot_rows,
         "steps": steps,
     }
     return ScheduleInputs(
-        start=start, workload=workload, steps=refs,
+        start=start,
+        workload=workload,
+        steps=refs,
         lot_ids={number: lot.pk for number, lot in lots.items()},
         lot_due={number: lot.order.due_date for number, lot in lots.items()},
-        unschedulable=tuple(unschedulable), resources=tuple(infos), lab_days=days,
-        opens=opens, closes=closes, holidays=holidays, notes=tuple(dict.fromkeys(notes)),
+        unschedulable=tuple(unschedulable),
+        resources=tuple(infos),
+        lab_days=days,
+        opens=opens,
+        closes=closes,
+        holidays=holidays,
+        notes=tuple(dict.fromkeys(notes)),
         covering=covering,
     )
 
@@ -446,8 +524,7 @@ def promised_dates() -> dict[int, datetime.datetime]:
     """
     from labrecords.services.scheduling import lab_schedule
 
-    return {row.lot_id: row.promised for row in lab_schedule().lots
-            if row.promised is not None}
+    return {row.lot_id: row.promised for row in lab_schedule().lots if row.promised is not None}
 
 
 @dataclass(frozen=True)
@@ -471,13 +548,16 @@ def lot_promise(lot: Lot) -> LotPromiseView:
     if row is not None:
         return LotPromiseView(row.promised, due, row.late, row.reason, row.note)
     if schedule.error:
-        return LotPromiseView(None, due, False, None,
-                              f"The schedule could not be computed: {schedule.error}")
+        return LotPromiseView(
+            None, due, False, None, f"The schedule could not be computed: {schedule.error}"
+        )
     if not TestPlan.objects.current_released().filter(lot=lot).exists():
-        return LotPromiseView(None, due, False, None,
-                              "No released test plan yet: nothing to schedule.")
-    return LotPromiseView(None, due, False, None,
-                          "Every planned step has a result: nothing left to schedule.")
+        return LotPromiseView(
+            None, due, False, None, "No released test plan yet: nothing to schedule."
+        )
+    return LotPromiseView(
+        None, due, False, None, "Every planned step has a result: nothing left to schedule."
+    )
 
 
 def hours_text(value: float | Decimal) -> str:

@@ -9,21 +9,29 @@ from durability.models import Resource
 
 
 class ResourceTable(tables.Table):
-    ident = tables.LinkColumn("labrecords:resource-detail", args=[tables.A("ident")],
-                              verbose_name="Resource")
+    ident = tables.LinkColumn(
+        "labrecords:resource-detail", args=[tables.A("ident")], verbose_name="Resource"
+    )
     name = tables.Column()
     calendar = tables.Column(verbose_name="Works")
     kinds = tables.Column(verbose_name="Method kinds", orderable=False)
     capacity = tables.Column(verbose_name="Capacity (pieces)")
     condition_ranges = tables.Column(verbose_name="Condition ranges", orderable=False)
-    instrument = tables.Column(accessor="instrument__ident", default="—",
-                               verbose_name="Instrument")
+    instrument = tables.Column(accessor="instrument__ident", default="—", verbose_name="Instrument")
     status = tables.Column(empty_values=(), orderable=False, verbose_name="Now")
 
     class Meta:
         model = Resource
-        fields = ("ident", "name", "calendar", "kinds", "capacity", "condition_ranges",
-                  "instrument", "status")
+        fields = (
+            "ident",
+            "name",
+            "calendar",
+            "kinds",
+            "capacity",
+            "condition_ranges",
+            "instrument",
+            "status",
+        )
         attrs = {"class": "records"}
         empty_text = "No resources."
 
@@ -32,8 +40,10 @@ class ResourceTable(tables.Table):
 
     def render_condition_ranges(self, value):
         names = {"temperature_c": "°C", "rh_pct": "% RH"}
-        return "; ".join(f"{low:g} to {high:g} {names.get(k, k)}" for k, (low, high)
-                         in value.items()) or "—"
+        return (
+            "; ".join(f"{low:g} to {high:g} {names.get(k, k)}" for k, (low, high) in value.items())
+            or "—"
+        )
 
     def render_status(self, record):
         if not record.active:
@@ -42,15 +52,15 @@ class ResourceTable(tables.Table):
         if blocks:
             block = blocks[0]
             until = timezone.localtime(block.ends_at).strftime("%Y-%m-%d %H:%M")
-            return format_html('<span class="blocked-now">blocked until {}: {}</span>', until,
-                               block.reason)
+            return format_html(
+                '<span class="blocked-now">blocked until {}: {}</span>', until, block.reason
+            )
         return "available"
 
 
 class PromiseTable(tables.Table):
     lot = tables.Column(accessor="lot_number", verbose_name="Lot")
-    promised = tables.DateTimeColumn(format="Y-m-d H:i", verbose_name="Promised",
-                                     default="—")
+    promised = tables.DateTimeColumn(format="Y-m-d H:i", verbose_name="Promised", default="—")
     due = tables.DateColumn(format="Y-m-d", verbose_name="Due", default="none")
     state = tables.Column(empty_values=(), orderable=False, verbose_name="On time?")
     reason = tables.Column(empty_values=(), orderable=False, verbose_name="Why late")

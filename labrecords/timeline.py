@@ -98,8 +98,9 @@ class TimelineLayout:
     end: datetime.datetime
 
 
-def lanes_from(schedule: Any, *, resources: Iterable[Any], start: datetime.datetime,
-               end: datetime.datetime) -> list[Lane]:
+def lanes_from(
+    schedule: Any, *, resources: Iterable[Any], start: datetime.datetime, end: datetime.datetime
+) -> list[Lane]:
     """Lanes for `resources` (ResourceInfo-like) from a LabSchedule-like object, cut to
     [start, end). Chamber steps of one run make one bar; bench steps one bar each."""
     lanes = []
@@ -122,25 +123,44 @@ def lanes_from(schedule: Any, *, resources: Iterable[Any], start: datetime.datet
                     per_lot[s.lot_number] += 1
                 lots = ", ".join(f"{lot} ×{n}" if n > 1 else lot for lot, n in per_lot.items())
                 label = f"{steps[0].name}: {lots}"
-                title = (f"{key} on {resource.ident}, {steps[0].name}, "
-                         f"{len(steps)} piece(s): {', '.join(s.piece_ident for s in steps)}")
+                title = (
+                    f"{key} on {resource.ident}, {steps[0].name}, "
+                    f"{len(steps)} piece(s): {', '.join(s.piece_ident for s in steps)}"
+                )
             else:
                 s = steps[0]
                 label = f"{s.lot_number} {s.piece_ident}"
                 title = f"{s.name} on {resource.ident}: piece {s.piece_ident}, lot {s.lot_number}"
             bars.append(Bar(first, last, label, title, fixed=any(s.fixed for s in steps)))
         bars.sort(key=lambda b: (b.start, b.end, b.label))
-        blocks = tuple(Period(b.starts_at, b.ends_at, b.reason) for b in resource.blocks
-                       if b.ends_at > start and b.starts_at < end)
-        lanes.append(Lane(resource.ident, resource.name, resource.is_chamber, tuple(bars),
-                          blocks, frozenset(hazards)))
+        blocks = tuple(
+            Period(b.starts_at, b.ends_at, b.reason)
+            for b in resource.blocks
+            if b.ends_at > start and b.starts_at < end
+        )
+        lanes.append(
+            Lane(
+                resource.ident,
+                resource.name,
+                resource.is_chamber,
+                tuple(bars),
+                blocks,
+                frozenset(hazards),
+            )
+        )
     return lanes
 
 
-def open_windows(start: datetime.datetime, end: datetime.datetime, *, zone: datetime.tzinfo,
-                 days: Sequence[int], opens: datetime.time, closes: datetime.time,
-                 holidays: Iterable[datetime.date]) -> list[tuple[datetime.datetime,
-                                                                  datetime.datetime]]:
+def open_windows(
+    start: datetime.datetime,
+    end: datetime.datetime,
+    *,
+    zone: datetime.tzinfo,
+    days: Sequence[int],
+    opens: datetime.time,
+    closes: datetime.time,
+    holidays: Iterable[datetime.date],
+) -> list[tuple[datetime.datetime, datetime.datetime]]:
     """The lab-hours windows between start and end (aware times in `zone`)."""
     closed = set(holidays)
     day = start.astimezone(zone).date()
@@ -182,9 +202,15 @@ def _cut(label: str, width: float) -> str:
     return label[: room - 1] + "…"
 
 
-def layout(lanes: Sequence[Lane], *, start: datetime.datetime, end: datetime.datetime,
-           now: datetime.datetime, zone: datetime.tzinfo,
-           windows: Sequence[tuple[datetime.datetime, datetime.datetime]]) -> TimelineLayout:
+def layout(
+    lanes: Sequence[Lane],
+    *,
+    start: datetime.datetime,
+    end: datetime.datetime,
+    now: datetime.datetime,
+    zone: datetime.tzinfo,
+    windows: Sequence[tuple[datetime.datetime, datetime.datetime]],
+) -> TimelineLayout:
     """Coordinates for every lane, bar, blocked period, lab-hours band and day tick."""
     span = (end - start).total_seconds()
     left = float(LABEL_WIDTH)
@@ -202,15 +228,32 @@ def layout(lanes: Sequence[Lane], *, start: datetime.datetime, end: datetime.dat
         height = count * ROW + 2 * PAD
         box = LaneBox(lane.ident, lane.name, lane.is_chamber, y, height)
         for period in lane.blocks:
-            box.blocks.append(Rect(x(period.start), y, max(x(period.end) - x(period.start), 1),
-                                   height, title=f"Blocked: {period.reason}", css="blocked"))
+            box.blocks.append(
+                Rect(
+                    x(period.start),
+                    y,
+                    max(x(period.end) - x(period.start), 1),
+                    height,
+                    title=f"Blocked: {period.reason}",
+                    css="blocked",
+                )
+            )
         for bar, row in zip(lane.bars, rows, strict=True):
             bar_x = x(bar.start)
             width = max(x(bar.end) - bar_x, 2.0)
-            box.bars.append(Rect(bar_x, y + PAD + row * ROW + 2, width, ROW - 4,
-                                 label=_cut(bar.label, width), title=bar.title,
-                                 css="bar fixed" if bar.fixed else
-                                 ("bar run" if lane.is_chamber else "bar step")))
+            box.bars.append(
+                Rect(
+                    bar_x,
+                    y + PAD + row * ROW + 2,
+                    width,
+                    ROW - 4,
+                    label=_cut(bar.label, width),
+                    title=bar.title,
+                    css="bar fixed"
+                    if bar.fixed
+                    else ("bar run" if lane.is_chamber else "bar step"),
+                )
+            )
         boxes.append(box)
         y += height
     ticks = []
@@ -224,5 +267,6 @@ def layout(lanes: Sequence[Lane], *, start: datetime.datetime, end: datetime.dat
         day += datetime.timedelta(days=1)
     bands = tuple(Rect(x(a), HEADER, x(b) - x(a), y - HEADER, css="open") for a, b in windows)
     now_x = x(now) if start <= now <= end else None
-    return TimelineLayout(WIDTH, y + 6, left, right, HEADER, tuple(boxes), tuple(ticks), bands,
-                          now_x, start, end)
+    return TimelineLayout(
+        WIDTH, y + 6, left, right, HEADER, tuple(boxes), tuple(ticks), bands, now_x, start, end
+    )

@@ -42,8 +42,12 @@ def _latest(piece: WitnessPiece) -> CustodyEvent | None:
 def retention_date(piece: WitnessPiece) -> datetime.date | None:
     """Until when the piece is kept: the latest retention recorded for it, else (for a
     tested piece) the lot's first report date plus the default retention; None otherwise."""
-    recorded = (piece.custody.exclude(retain_until=None).order_by("-moved_at", "-id")
-                .values_list("retain_until", flat=True).first())
+    recorded = (
+        piece.custody.exclude(retain_until=None)
+        .order_by("-moved_at", "-id")
+        .values_list("retain_until", flat=True)
+        .first()
+    )
     if recorded is not None:
         return recorded
     first_report = Report.objects.filter(lot_id=piece.lot_id).order_by("issued_at").first()
@@ -53,27 +57,50 @@ def retention_date(piece: WitnessPiece) -> datetime.date | None:
     return None
 
 
-def _event(*, actor, piece: WitnessPiece, place_kind: str, place: str, note: str = "",
-           retain_until: datetime.date | None = None) -> CustodyEvent:
+def _event(
+    *,
+    actor,
+    piece: WitnessPiece,
+    place_kind: str,
+    place: str,
+    note: str = "",
+    retain_until: datetime.date | None = None,
+) -> CustodyEvent:
     latest = _latest(piece)
     if latest is not None and latest.place_kind == PlaceKind.DISPOSED:
-        raise ValidationError({"piece": f"{piece.ident} was disposed of on "
-                                        f"{timezone.localdate(latest.moved_at):%Y-%m-%d}."})
-    event = CustodyEvent(piece=piece, place_kind=place_kind, place=place.strip(),
-                         retain_until=retain_until, note=note.strip(), moved_by=actor,
-                         moved_at=clock.now())
+        raise ValidationError(
+            {
+                "piece": f"{piece.ident} was disposed of on "
+                f"{timezone.localdate(latest.moved_at):%Y-%m-%d}."
+            }
+        )
+    event = CustodyEvent(
+        piece=piece,
+        place_kind=place_kind,
+        place=place.strip(),
+        retain_until=retain_until,
+        note=note.strip(),
+        moved_by=actor,
+        moved_at=clock.now(),
+    )
     return create_audited(actor=actor, obj=event)
 
 
 @transaction.atomic
-def custody_move(*, actor, piece: WitnessPiece, place_kind: str, place: str,
-                 note: str = "") -> CustodyEvent:
+def custody_move(
+    *, actor, piece: WitnessPiece, place_kind: str, place: str, note: str = ""
+) -> CustodyEvent:
     """Record that a piece now is at `place` (a shelf, a chamber, a bench station), or was
     returned to the customer."""
     require_role(actor, *CUSTODY_ROLES)
     if place_kind not in MOVE_KINDS:
-        raise ValidationError({"place_kind": (
-            "Use retain to keep a piece for re-inspection and dispose to dispose of it.")})
+        raise ValidationError(
+            {
+                "place_kind": (
+                    "Use retain to keep a piece for re-inspection and dispose to dispose of it."
+                )
+            }
+        )
     if not place.strip():
         raise ValidationError({"place": "Say where the piece is (e.g. shelf B3, HC-01)."})
     WitnessPiece.objects.select_for_update().filter(pk=piece.pk).first()
@@ -81,8 +108,14 @@ def custody_move(*, actor, piece: WitnessPiece, place_kind: str, place: str,
 
 
 @transaction.atomic
-def custody_retain(*, actor, piece: WitnessPiece, place: str,
-                   retain_until: datetime.date | None = None, note: str = "") -> CustodyEvent:
+def custody_retain(
+    *,
+    actor,
+    piece: WitnessPiece,
+    place: str,
+    retain_until: datetime.date | None = None,
+    note: str = "",
+) -> CustodyEvent:
     """Keep a tested piece for re-inspection at `place` until its retention date.
 
     Without `retain_until` the date is the lot's first report plus the default retention;
@@ -96,18 +129,38 @@ def custody_retain(*, actor, piece: WitnessPiece, place: str,
     if retain_until is None:
         retain_until = current
         if retain_until is None:
-            raise ValidationError({"retain_until": (
-                f"No report is issued for lot {piece.lot.number} yet: give the date until "
-                "which the piece is kept.")})
+            raise ValidationError(
+                {
+                    "retain_until": (
+                        f"No report is issued for lot {piece.lot.number} yet: give the date until "
+                        "which the piece is kept."
+                    )
+                }
+            )
     if current is not None and retain_until < current:
-        raise ValidationError({"retain_until": (
-            f"{piece.ident} is already kept until {current:%Y-%m-%d}; a retention is never "
-            "shortened.")})
-    event = _event(actor=actor, piece=piece, place_kind=PlaceKind.RETAINED, place=place,
-                   note=note, retain_until=retain_until)
+        raise ValidationError(
+            {
+                "retain_until": (
+                    f"{piece.ident} is already kept until {current:%Y-%m-%d}; a retention is never "
+                    "shortened."
+                )
+            }
+        )
+    event = _event(
+        actor=actor,
+        piece=piece,
+        place_kind=PlaceKind.RETAINED,
+        place=place,
+        note=note,
+        retain_until=retain_until,
+    )
     if piece.status in (PieceStatus.ALLOCATED, PieceStatus.IN_TEST):
-        change_audited(actor=actor, obj=piece, changes={"status": PieceStatus.TESTED},
-                       reason=f"kept for re-inspection until {retain_until:%Y-%m-%d}")
+        change_audited(
+            actor=actor,
+            obj=piece,
+            changes={"status": PieceStatus.TESTED},
+            reason=f"kept for re-inspection until {retain_until:%Y-%m-%d}",
+        )
     return event
 
 
@@ -120,18 +173,32 @@ def custody_dispose(*, actor, piece: WitnessPiece, note: str = "") -> CustodyEve
     today = timezone.localdate(clock.now())
     keep = retention_date(piece)
     if keep is not None and today < keep:
-        raise ValidationError({"piece": (
-            f"{piece.ident} is kept for re-inspection until {keep:%Y-%m-%d}; it cannot be "
-            "disposed of before then.")})
+        raise ValidationError(
+            {
+                "piece": (
+                    f"{piece.ident} is kept for re-inspection until {keep:%Y-%m-%d}; it cannot be "
+                    "disposed of before then."
+                )
+            }
+        )
     if keep is None and StepResult.objects.filter(piece=piece).exists():
-        raise ValidationError({"piece": (
-            f"{piece.ident} has results and no report is issued for lot {piece.lot.number} "
-            "yet: a tested piece is kept until its retention ends.")})
+        raise ValidationError(
+            {
+                "piece": (
+                    f"{piece.ident} has results and no report is issued for lot {piece.lot.number} "
+                    "yet: a tested piece is kept until its retention ends."
+                )
+            }
+        )
     if ChamberRunPiece.objects.filter(piece=piece, run__unloaded_at__isnull=True).exists():
-        raise ValidationError({"piece": f"{piece.ident} is in a chamber run that is not "
-                                        "unloaded."})
-    event = _event(actor=actor, piece=piece, place_kind=PlaceKind.DISPOSED, place="disposed",
-                   note=note)
-    change_audited(actor=actor, obj=piece, changes={"status": PieceStatus.DISPOSED},
-                   reason=note or "disposed after its retention")
+        raise ValidationError({"piece": f"{piece.ident} is in a chamber run that is not unloaded."})
+    event = _event(
+        actor=actor, piece=piece, place_kind=PlaceKind.DISPOSED, place="disposed", note=note
+    )
+    change_audited(
+        actor=actor,
+        obj=piece,
+        changes={"status": PieceStatus.DISPOSED},
+        reason=note or "disposed after its retention",
+    )
     return event

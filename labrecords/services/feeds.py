@@ -36,30 +36,39 @@ def calendar_feed_token_create(*, actor) -> tuple[CalendarFeedToken, str]:
     row.full_clean()
     row.save()
     # The hash is left out of the audit trail too: it is the key to the feed.
-    audit_record(actor=actor, action="create feed token", obj=row,
-                 after=snapshot(row, ["user_id", "created_at"]))
+    audit_record(
+        actor=actor,
+        action="create feed token",
+        obj=row,
+        after=snapshot(row, ["user_id", "created_at"]),
+    )
     return row, token
 
 
 @transaction.atomic
-def calendar_feed_token_revoke(*, actor, token: CalendarFeedToken,
-                               reason: str = "") -> CalendarFeedToken:
+def calendar_feed_token_revoke(
+    *, actor, token: CalendarFeedToken, reason: str = ""
+) -> CalendarFeedToken:
     """Revoke a token: its owner may, and so may the administrator."""
     if token.user_id != actor.pk and not has_role(actor, Role.ADMINISTRATOR):
         raise PermissionDenied("Only the token's owner or the administrator may revoke it.")
     locked = CalendarFeedToken.objects.select_for_update().get(pk=token.pk)
     if locked.revoked_at is not None:
         raise ValidationError({"token": "This token is already revoked."})
-    return change_audited(actor=actor, obj=locked, changes={"revoked_at": clock.now()},
-                          reason=reason or "revoked")
+    return change_audited(
+        actor=actor, obj=locked, changes={"revoked_at": clock.now()}, reason=reason or "revoked"
+    )
 
 
 def feed_user(token: str):
     """The lab staff user a live token belongs to, or None (unknown, revoked, not staff)."""
     if not token or len(token) > 200:
         return None
-    row = (CalendarFeedToken.objects.select_related("user")
-           .filter(token_hash=token_hash(token), revoked_at__isnull=True).first())
+    row = (
+        CalendarFeedToken.objects.select_related("user")
+        .filter(token_hash=token_hash(token), revoked_at__isnull=True)
+        .first()
+    )
     if row is None or not is_lab_staff(row.user):
         return None
     return row.user

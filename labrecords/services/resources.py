@@ -46,13 +46,15 @@ def _ranges(ranges: Mapping[str, Sequence[float]] | None) -> dict[str, list[floa
     cleaned: dict[str, list[float]] = {}
     for name, bounds in (ranges or {}).items():
         if name not in RANGE_NAMES:
-            raise ValidationError({"condition_ranges": (
-                f"Unknown range {name!r}; use {' or '.join(RANGE_NAMES)}.")})
+            raise ValidationError(
+                {"condition_ranges": (f"Unknown range {name!r}; use {' or '.join(RANGE_NAMES)}.")}
+            )
         try:
             low, high = (float(b) for b in bounds)
         except (TypeError, ValueError):
-            raise ValidationError({"condition_ranges": (
-                f"{name}: give two numbers, the lowest and the highest.")}) from None
+            raise ValidationError(
+                {"condition_ranges": (f"{name}: give two numbers, the lowest and the highest.")}
+            ) from None
         if low > high:
             raise ValidationError({"condition_ranges": f"{name}: {low:g} is above {high:g}."})
         cleaned[name] = [low, high]
@@ -60,17 +62,32 @@ def _ranges(ranges: Mapping[str, Sequence[float]] | None) -> dict[str, list[floa
 
 
 @transaction.atomic
-def resource_create(*, actor, ident: str, name: str, calendar: str, kinds: Iterable[str],
-                    capacity: int, condition_ranges: Mapping[str, Sequence[float]] | None = None,
-                    instrument: Instrument | None = None) -> Resource:
+def resource_create(
+    *,
+    actor,
+    ident: str,
+    name: str,
+    calendar: str,
+    kinds: Iterable[str],
+    capacity: int,
+    condition_ranges: Mapping[str, Sequence[float]] | None = None,
+    instrument: Instrument | None = None,
+) -> Resource:
     """Register a chamber (calendar 'always') or a bench station (calendar 'lab_hours')."""
     require_role(actor, *RESOURCE_ROLES)
     if calendar not in CalendarKind.values:
-        raise ValidationError({"calendar": "Choose a chamber (always) or a bench station "
-                                           "(lab hours)."})
-    resource = Resource(ident=ident, name=name, calendar=calendar, kinds=_kinds(kinds),
-                        capacity=capacity, condition_ranges=_ranges(condition_ranges),
-                        instrument=instrument)
+        raise ValidationError(
+            {"calendar": "Choose a chamber (always) or a bench station (lab hours)."}
+        )
+    resource = Resource(
+        ident=ident,
+        name=name,
+        calendar=calendar,
+        kinds=_kinds(kinds),
+        capacity=capacity,
+        condition_ranges=_ranges(condition_ranges),
+        instrument=instrument,
+    )
     return create_audited(actor=actor, obj=resource)
 
 
@@ -99,8 +116,14 @@ def _aware(moment: datetime.datetime, field: str) -> datetime.datetime:
 
 
 @transaction.atomic
-def resource_block_create(*, actor, resource: Resource, starts_at: datetime.datetime,
-                          ends_at: datetime.datetime, reason: str) -> ResourceBlock:
+def resource_block_create(
+    *,
+    actor,
+    resource: Resource,
+    starts_at: datetime.datetime,
+    ends_at: datetime.datetime,
+    reason: str,
+) -> ResourceBlock:
     """Block a resource for a period (maintenance, calibration, breakdown), with the reason."""
     require_role(actor, *RESOURCE_ROLES)
     starts_at = _aware(starts_at, "starts_at")
@@ -111,17 +134,29 @@ def resource_block_create(*, actor, resource: Resource, starts_at: datetime.date
         raise ValidationError({"ends_at": "This block would already be over."})
     if ends_at <= starts_at:
         raise ValidationError({"ends_at": "The block must end after it starts."})
-    block = ResourceBlock(resource=resource, starts_at=starts_at, ends_at=ends_at,
-                          reason=reason.strip(), created_by=actor, created_at=clock.now())
+    block = ResourceBlock(
+        resource=resource,
+        starts_at=starts_at,
+        ends_at=ends_at,
+        reason=reason.strip(),
+        created_by=actor,
+        created_at=clock.now(),
+    )
     return create_audited(actor=actor, obj=block, reason=reason.strip())
 
 
-def resource_mark_broken(*, actor, resource: Resource, expected_end: datetime.datetime,
-                         reason: str) -> ResourceBlock:
+def resource_mark_broken(
+    *, actor, resource: Resource, expected_end: datetime.datetime, reason: str
+) -> ResourceBlock:
     """A breakdown: block the resource from now until the expected end of the repair."""
     try:
-        return resource_block_create(actor=actor, resource=resource, starts_at=clock.now(),
-                                     ends_at=expected_end, reason=reason)
+        return resource_block_create(
+            actor=actor,
+            resource=resource,
+            starts_at=clock.now(),
+            ends_at=expected_end,
+            reason=reason,
+        )
     except ValidationError as exc:
         # Name the field as this service's caller knows it.
         if hasattr(exc, "message_dict") and "ends_at" in exc.message_dict:
@@ -146,8 +181,9 @@ def resource_block_end(*, actor, block: ResourceBlock, reason: str) -> ResourceB
     if locked.ends_at <= now:
         raise ValidationError({"block": "This block is already over."})
     if locked.starts_at >= now:
-        audit_record(actor=actor, action="cancel block", obj=locked, before=snapshot(locked),
-                     reason=reason)
+        audit_record(
+            actor=actor, action="cancel block", obj=locked, before=snapshot(locked), reason=reason
+        )
         locked.delete()
         return None
     return change_audited(actor=actor, obj=locked, changes={"ends_at": now}, reason=reason)
@@ -170,14 +206,21 @@ def lab_holiday_remove(*, actor, holiday: LabHoliday, reason: str) -> None:
     require_role(actor, *RESOURCE_ROLES)
     if not reason.strip():
         raise ValidationError({"reason": "Say why the holiday is removed."})
-    audit_record(actor=actor, action="remove holiday", obj=holiday, before=snapshot(holiday),
-                 reason=reason)
+    audit_record(
+        actor=actor, action="remove holiday", obj=holiday, before=snapshot(holiday), reason=reason
+    )
     holiday.delete()
 
 
 @transaction.atomic
-def lab_hours_set(*, actor, weekdays: Iterable[int], opens: datetime.time,
-                  closes: datetime.time, valid_from: datetime.date) -> LabHours:
+def lab_hours_set(
+    *,
+    actor,
+    weekdays: Iterable[int],
+    opens: datetime.time,
+    closes: datetime.time,
+    valid_from: datetime.date,
+) -> LabHours:
     """Record the lab's hours from a date on (a new row; earlier hours stay on record)."""
     require_role(actor, *RESOURCE_ROLES)
     days = sorted({int(d) for d in weekdays})
@@ -191,7 +234,10 @@ def lab_hours_set(*, actor, weekdays: Iterable[int], opens: datetime.time,
     hours.full_clean()
     hours.save()
     # Times of day written out by hand: the audit snapshot knows dates, not times.
-    after = {**snapshot(hours, ["weekdays", "valid_from"]),
-             "opens": opens.strftime("%H:%M"), "closes": closes.strftime("%H:%M")}
+    after = {
+        **snapshot(hours, ["weekdays", "valid_from"]),
+        "opens": opens.strftime("%H:%M"),
+        "closes": closes.strftime("%H:%M"),
+    }
     audit_record(actor=actor, action="create", obj=hours, after=after)
     return hours

@@ -13,6 +13,7 @@ from __future__ import annotations
 import datetime
 import hashlib
 from dataclasses import dataclass
+from typing import Any
 
 from django.core.cache import cache
 
@@ -112,8 +113,9 @@ def _key(inputs: ScheduleInputs, options: SolverOptions) -> str:
     return f"labrecords:schedule:{digest}"
 
 
-def lab_schedule(*, now: datetime.datetime | None = None,
-                 options: SolverOptions | None = None) -> LabSchedule:
+def lab_schedule(
+    *, now: datetime.datetime | None = None, options: SolverOptions | None = None
+) -> LabSchedule:
     """The current schedule of every released plan's open steps (cached by its inputs).
 
     Bad input the scheduler refuses (fixed runs that overlap, say) does not raise: the
@@ -132,11 +134,16 @@ def lab_schedule(*, now: datetime.datetime | None = None,
 
 def compute(inputs: ScheduleInputs, options: SolverOptions | None = None) -> LabSchedule:
     """Run the scheduler on `inputs` (no cache) and turn its answer into lab terms."""
-    base = dict(
-        start=inputs.start, fingerprint=inputs.fingerprint,
-        unschedulable=inputs.unschedulable, resources=inputs.resources,
-        lab_days=inputs.lab_days, opens=inputs.opens, closes=inputs.closes,
-        holidays=inputs.holidays, notes=inputs.notes,
+    base: dict[str, Any] = dict(
+        start=inputs.start,
+        fingerprint=inputs.fingerprint,
+        unschedulable=inputs.unschedulable,
+        resources=inputs.resources,
+        lab_days=inputs.lab_days,
+        opens=inputs.opens,
+        closes=inputs.closes,
+        holidays=inputs.holidays,
+        notes=inputs.notes,
     )
     try:
         answer = schedule(load_workload(inputs.workload), options or OPTIONS)
@@ -147,47 +154,82 @@ def compute(inputs: ScheduleInputs, options: SolverOptions | None = None) -> Lab
     warnings = []
     for a in answer.assignments:
         ref = inputs.steps[a.step]
-        steps.append(ScheduledStep(
-            step_id=a.step, lot_id=ref.lot_id, lot_number=ref.lot_number,
-            piece_ident=ref.piece_ident, name=ref.name, kind=ref.kind, sequence=ref.sequence,
-            resource=a.resource, start=aware(a.start), end=aware(a.end),
-            chamber_run=a.chamber_run, fixed=a.fixed, hazards=ref.hazards))
+        steps.append(
+            ScheduledStep(
+                step_id=a.step,
+                lot_id=ref.lot_id,
+                lot_number=ref.lot_number,
+                piece_ident=ref.piece_ident,
+                name=ref.name,
+                kind=ref.kind,
+                sequence=ref.sequence,
+                resource=a.resource,
+                start=aware(a.start),
+                end=aware(a.end),
+                chamber_run=a.chamber_run,
+                fixed=a.fixed,
+                hazards=ref.hazards,
+            )
+        )
         allowed = inputs.covering.get(a.step)
         if allowed is not None and a.resource not in allowed:
             warnings.append(
                 f"{ref.piece_ident} {ref.name} is placed on {a.resource}, whose condition "
                 f"ranges do not cover it (it fits {', '.join(sorted(allowed))}); the "
-                "scheduler places steps by method kind only: move it when loading.")
+                "scheduler places steps by method kind only: move it when loading."
+            )
     stuck = {u.lot_number: u for u in inputs.unschedulable}
     lots = []
     for promise in answer.lots:
         blocked = stuck.get(promise.lot)
         reason = promise.reason
         if promise.late and promise.due is not None and aware(promise.due) <= inputs.start:
-            reason = (f"already past its due date ({inputs.lot_due.get(promise.lot)}) when "
-                      "this schedule starts")
-        lots.append(LotPromiseRow(
-            lot_id=inputs.lot_ids[promise.lot], lot_number=promise.lot,
-            promised=None if blocked or promise.promised is None else aware(promise.promised),
-            due=inputs.lot_due.get(promise.lot),
-            late=promise.late and blocked is None,
-            late_hours=promise.late_hours if blocked is None else 0.0,
-            reason=reason if blocked is None else None,
-            priority=promise.priority,
-            note="" if blocked is None else (
-                f"No promised date: {blocked.piece_ident} {blocked.step_name} cannot be "
-                f"scheduled ({blocked.reason})."),
-        ))
+            reason = (
+                f"already past its due date ({inputs.lot_due.get(promise.lot)}) when "
+                "this schedule starts"
+            )
+        lots.append(
+            LotPromiseRow(
+                lot_id=inputs.lot_ids[promise.lot],
+                lot_number=promise.lot,
+                promised=None if blocked or promise.promised is None else aware(promise.promised),
+                due=inputs.lot_due.get(promise.lot),
+                late=promise.late and blocked is None,
+                late_hours=promise.late_hours if blocked is None else 0.0,
+                reason=reason if blocked is None else None,
+                priority=promise.priority,
+                note=""
+                if blocked is None
+                else (
+                    f"No promised date: {blocked.piece_ident} {blocked.step_name} cannot be "
+                    f"scheduled ({blocked.reason})."
+                ),
+            )
+        )
     for lot_number, blocked in stuck.items():
         if lot_number not in inputs.lot_ids:
-            lots.append(LotPromiseRow(
-                lot_id=blocked.lot_id, lot_number=lot_number, promised=None, due=None,
-                late=False, late_hours=0.0, reason=None, priority=0,
-                note=f"No promised date: {blocked.piece_ident} {blocked.step_name} cannot be "
-                     f"scheduled ({blocked.reason})."))
-    lots.sort(key=lambda row: (row.promised is None, row.promised or inputs.start,
-                               row.lot_number))
+            lots.append(
+                LotPromiseRow(
+                    lot_id=blocked.lot_id,
+                    lot_number=lot_number,
+                    promised=None,
+                    due=None,
+                    late=False,
+                    late_hours=0.0,
+                    reason=None,
+                    priority=0,
+                    note=f"No promised date: {blocked.piece_ident} {blocked.step_name} cannot be "
+                    f"scheduled ({blocked.reason}).",
+                )
+            )
+    lots.sort(key=lambda row: (row.promised is None, row.promised or inputs.start, row.lot_number))
     return LabSchedule(
-        steps=tuple(steps), lots=tuple(lots), warnings=tuple(warnings),
-        makespan_hours=answer.makespan_hours, lower_bound_hours=answer.lower_bound_hours,
-        lower_bound_binding=answer.lower_bound.binding, convention=answer.convention, **base)
+        steps=tuple(steps),
+        lots=tuple(lots),
+        warnings=tuple(warnings),
+        makespan_hours=answer.makespan_hours,
+        lower_bound_hours=answer.lower_bound_hours,
+        lower_bound_binding=answer.lower_bound.binding,
+        convention=answer.convention,
+        **base,
+    )

@@ -30,8 +30,9 @@ def lot_labels_pdf(request, pk: int):
     skip = 0
     if form.is_valid():
         skip = form.cleaned_data["skip"] or 0
-    pdf = labels_pdf(lot_labels(lot, base_url(request)), title=f"Labels for lot {lot.number}",
-                     skip=skip)
+    pdf = labels_pdf(
+        lot_labels(lot, base_url(request)), title=f"Labels for lot {lot.number}", skip=skip
+    )
     response = HttpResponse(pdf, content_type="application/pdf")
     response["Content-Disposition"] = f'inline; filename="labels-{lot.number}.pdf"'
     return response
@@ -65,19 +66,35 @@ def _custody_action(request, ident: str, form_class, action) -> HttpResponse:
 @require_POST
 @login_required
 def custody_move(request, ident: str):
-    return _custody_action(request, ident, CustodyMoveForm, lambda piece, data: (
-        custody_services.custody_move(actor=request.user, piece=piece, **data)))
+    return _custody_action(
+        request,
+        ident,
+        CustodyMoveForm,
+        lambda piece, data: custody_services.custody_move(actor=request.user, piece=piece, **data),
+    )
 
 
 @require_POST
 @login_required
 def custody_retain(request, ident: str):
-    return _custody_action(request, ident, CustodyRetainForm, lambda piece, data: (
-        custody_services.custody_retain(actor=request.user, piece=piece, **data)))
+    return _custody_action(
+        request,
+        ident,
+        CustodyRetainForm,
+        lambda piece, data: custody_services.custody_retain(
+            actor=request.user, piece=piece, **data
+        ),
+    )
 
 
 @require_POST
 @login_required
 def custody_dispose(request, ident: str):
-    return _custody_action(request, ident, CustodyDisposeForm, lambda piece, data: (
-        custody_services.custody_dispose(actor=request.user, piece=piece, **data)))
+    return _custody_action(
+        request,
+        ident,
+        CustodyDisposeForm,
+        lambda piece, data: custody_services.custody_dispose(
+            actor=request.user, piece=piece, **data
+        ),
+    )

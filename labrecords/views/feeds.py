@@ -36,13 +36,20 @@ def _tokens_page(request, *, new_token: str | None = None, status: int = 200):
     base = base_url(request)
     feed_urls = []
     if new_token:
-        feed_urls = [(r.ident, base + reverse("labrecords:resource-feed",
-                                              args=[new_token, r.ident]))
-                     for r in schedule.resources]
-    return render(request, "labrecords/schedule/feeds.html", {
-        "tokens": list(tokens.order_by("-created_at")), "new_token": new_token,
-        "feed_urls": feed_urls,
-    }, status=status)
+        feed_urls = [
+            (r.ident, base + reverse("labrecords:resource-feed", args=[new_token, r.ident]))
+            for r in schedule.resources
+        ]
+    return render(
+        request,
+        "labrecords/schedule/feeds.html",
+        {
+            "tokens": list(tokens.order_by("-created_at")),
+            "new_token": new_token,
+            "feed_urls": feed_urls,
+        },
+        status=status,
+    )
 
 
 @require_safe
@@ -113,20 +120,34 @@ def resource_feed(request, token: str, ident: str):
             summary = f"{ident}: {first.name}, {first.piece_ident}"
         description = "\n".join(
             f"{s.piece_ident} (lot {s.lot_number}, sequence {s.sequence}): {s.name}"
-            for s in sorted(steps, key=lambda s: s.piece_ident))
+            for s in sorted(steps, key=lambda s: s.piece_ident)
+        )
         # The UID follows the pieces and steps, so a run moved by re-planning keeps it.
-        events.append(Event(
-            uid=_uid(ident, "+".join(members)), start=min(s.start for s in steps),
-            end=max(s.end for s in steps), summary=summary, description=description,
-            location=resource.name, categories=(first.kind.replace("_", " "),)))
+        events.append(
+            Event(
+                uid=_uid(ident, "+".join(members)),
+                start=min(s.start for s in steps),
+                end=max(s.end for s in steps),
+                summary=summary,
+                description=description,
+                location=resource.name,
+                categories=(first.kind.replace("_", " "),),
+            )
+        )
     for block in resource.blocks:
         if block.ends_at <= now or block.starts_at >= until:
             continue
-        key = f"block-{block.block_id}" if block.block_id else \
-            f"block-{block.starts_at:%Y%m%d%H%M}"
-        events.append(Event(uid=_uid(ident, key), start=block.starts_at, end=block.ends_at,
-                            summary=f"{ident} blocked: {block.reason}",
-                            location=resource.name, categories=("blocked",)))
+        key = f"block-{block.block_id}" if block.block_id else f"block-{block.starts_at:%Y%m%d%H%M}"
+        events.append(
+            Event(
+                uid=_uid(ident, key),
+                start=block.starts_at,
+                end=block.ends_at,
+                summary=f"{ident} blocked: {block.reason}",
+                location=resource.name,
+                categories=("blocked",),
+            )
+        )
     events.sort(key=lambda e: (e.start, e.uid))
     text = calendar_text(events, name=f"{ident} {resource.name}", stamp=schedule.start)
     response = HttpResponse(text.encode("utf-8"), content_type="text/calendar; charset=utf-8")

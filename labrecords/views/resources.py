@@ -60,7 +60,8 @@ class ResourceListView(LoginRequiredMixin, SingleTableMixin, FilterView):
         now = clock.now()
         current = ResourceBlock.objects.filter(starts_at__lte=now, ends_at__gt=now)
         return Resource.objects.select_related("instrument").prefetch_related(
-            Prefetch("blocks", queryset=current.order_by("-ends_at"), to_attr="current_blocks"))
+            Prefetch("blocks", queryset=current.order_by("-ends_at"), to_attr="current_blocks")
+        )
 
     def get_context_data(self, **kwargs):
         context = super().get_context_data(**kwargs)
@@ -70,20 +71,35 @@ class ResourceListView(LoginRequiredMixin, SingleTableMixin, FilterView):
 
 def _resource_page(request, resource, *, block_form=None, broken_form=None, status=200):
     now = clock.now()
-    blocks = list(resource.blocks.filter(ends_at__gt=now).select_related("created_by")
-                  .order_by("starts_at"))
-    past = list(resource.blocks.filter(ends_at__lte=now).select_related("created_by")
-                .order_by("-starts_at")[:20])
-    return render(request, "labrecords/schedule/resource_detail.html", {
-        "resource": resource, "blocks": blocks, "past_blocks": past, "now": now,
-        "can_change": has_role(request.user, *RESOURCE_ROLES),
-        "block_form": block_form or BlockForm(prefix="block", initial={
-            "starts_at": local_default(24), "ends_at": local_default(48)}),
-        "broken_form": broken_form or BrokenForm(prefix="broken",
-                                                 initial={"expected_end": local_default(48)}),
-        "end_form": ReasonForm(),
-        "audit": audit_trail(resource),
-    }, status=status)
+    blocks = list(
+        resource.blocks.filter(ends_at__gt=now).select_related("created_by").order_by("starts_at")
+    )
+    past = list(
+        resource.blocks.filter(ends_at__lte=now)
+        .select_related("created_by")
+        .order_by("-starts_at")[:20]
+    )
+    return render(
+        request,
+        "labrecords/schedule/resource_detail.html",
+        {
+            "resource": resource,
+            "blocks": blocks,
+            "past_blocks": past,
+            "now": now,
+            "can_change": has_role(request.user, *RESOURCE_ROLES),
+            "block_form": block_form
+            or BlockForm(
+                prefix="block",
+                initial={"starts_at": local_default(24), "ends_at": local_default(48)},
+            ),
+            "broken_form": broken_form
+            or BrokenForm(prefix="broken", initial={"expected_end": local_default(48)}),
+            "end_form": ReasonForm(),
+            "audit": audit_trail(resource),
+        },
+        status=status,
+    )
 
 
 @require_safe
@@ -101,8 +117,9 @@ def resource_block_add(request, ident: str):
     form = BlockForm(request.POST, prefix="block")
     if form.is_valid():
         try:
-            resource_services.resource_block_create(actor=request.user, resource=resource,
-                                                    **form.cleaned_data)
+            resource_services.resource_block_create(
+                actor=request.user, resource=resource, **form.cleaned_data
+            )
         except ValidationError as exc:
             _form_errors(form, exc)
         else:
@@ -119,13 +136,15 @@ def resource_broken(request, ident: str):
     form = BrokenForm(request.POST, prefix="broken")
     if form.is_valid():
         try:
-            resource_services.resource_mark_broken(actor=request.user, resource=resource,
-                                                   **form.cleaned_data)
+            resource_services.resource_mark_broken(
+                actor=request.user, resource=resource, **form.cleaned_data
+            )
         except ValidationError as exc:
             _form_errors(form, exc)
         else:
-            messages.success(request, f"{resource.ident} is marked broken; the schedule "
-                                      "plans around it.")
+            messages.success(
+                request, f"{resource.ident} is marked broken; the schedule plans around it."
+            )
             return redirect("labrecords:resource-detail", ident=resource.ident)
     return _resource_page(request, resource, broken_form=form, status=400)
 
@@ -141,8 +160,9 @@ def resource_block_end(request, ident: str, block_pk: int):
         messages.error(request, "Why: say why the block ends early.")
     else:
         try:
-            resource_services.resource_block_end(actor=request.user, block=block,
-                                                 reason=form.cleaned_data["reason"])
+            resource_services.resource_block_end(
+                actor=request.user, block=block, reason=form.cleaned_data["reason"]
+            )
         except ValidationError as exc:
             for error in exc.messages:
                 messages.error(request, error)
@@ -156,18 +176,29 @@ def _calendar_page(request, *, holiday_form=None, hours_form=None, status=200):
     hours = list(LabHours.objects.order_by("-valid_from", "-id")[:10])
     for row in hours:
         row.day_names = ", ".join(WEEKDAYS[int(d)][1] for d in row.weekdays)
-    return render(request, "labrecords/schedule/calendar.html", {
-        "holidays": list(LabHoliday.objects.filter(day__gte=today).order_by("day")),
-        "past_holidays": list(LabHoliday.objects.filter(day__lt=today).order_by("-day")[:10]),
-        "hours": hours,
-        "can_change": has_role(request.user, *RESOURCE_ROLES),
-        "holiday_form": holiday_form or HolidayForm(prefix="holiday"),
-        "hours_form": hours_form or LabHoursForm(prefix="hours", initial={
-            "weekdays": hours[0].weekdays if hours else [0, 1, 2, 3, 4],
-            "opens": hours[0].opens if hours else "08:00",
-            "closes": hours[0].closes if hours else "17:00", "valid_from": today}),
-        "remove_form": ReasonForm(),
-    }, status=status)
+    return render(
+        request,
+        "labrecords/schedule/calendar.html",
+        {
+            "holidays": list(LabHoliday.objects.filter(day__gte=today).order_by("day")),
+            "past_holidays": list(LabHoliday.objects.filter(day__lt=today).order_by("-day")[:10]),
+            "hours": hours,
+            "can_change": has_role(request.user, *RESOURCE_ROLES),
+            "holiday_form": holiday_form or HolidayForm(prefix="holiday"),
+            "hours_form": hours_form
+            or LabHoursForm(
+                prefix="hours",
+                initial={
+                    "weekdays": hours[0].weekdays if hours else [0, 1, 2, 3, 4],
+                    "opens": hours[0].opens if hours else "08:00",
+                    "closes": hours[0].closes if hours else "17:00",
+                    "valid_from": today,
+                },
+            ),
+            "remove_form": ReasonForm(),
+        },
+        status=status,
+    )
 
 
 @require_safe
@@ -204,8 +235,9 @@ def holiday_remove(request, pk: int):
     if not form.is_valid():
         messages.error(request, "Why: say why the holiday is removed.")
     else:
-        resource_services.lab_holiday_remove(actor=request.user, holiday=holiday,
-                                             reason=form.cleaned_data["reason"])
+        resource_services.lab_holiday_remove(
+            actor=request.user, holiday=holiday, reason=form.cleaned_data["reason"]
+        )
         messages.success(request, "Holiday removed.")
     return redirect("labrecords:lab-calendar")
 

@@ -26,11 +26,17 @@ def schedule_page(request):
     schedule = lab_schedule()
     table = PromiseTable(list(schedule.lots))
     RequestConfig(request, paginate=False).configure(table)
-    return render(request, "labrecords/schedule/schedule.html", {
-        "schedule": schedule, "table": table, "late": list(schedule.late),
-        "unschedulable": list(schedule.unschedulable),
-        "cautions": cautions_for(sorted(schedule.hazards())),
-    })
+    return render(
+        request,
+        "labrecords/schedule/schedule.html",
+        {
+            "schedule": schedule,
+            "table": table,
+            "late": list(schedule.late),
+            "unschedulable": list(schedule.unschedulable),
+            "cautions": cautions_for(sorted(schedule.hazards())),
+        },
+    )
 
 
 @require_safe
@@ -45,18 +51,33 @@ def timeline_page(request):
         only = form.cleaned_data["resource"] or ""
     schedule = lab_schedule()
     zone = lab_zone()
-    start = timezone.localtime(clock.now(), zone).replace(hour=0, minute=0, second=0,
-                                                          microsecond=0)
+    start = timezone.localtime(clock.now(), zone).replace(hour=0, minute=0, second=0, microsecond=0)
     end = start + datetime.timedelta(days=days)
     resources = [r for r in schedule.resources if not only or r.ident == only]
     lanes = lanes_from(schedule, resources=resources, start=start, end=end)
-    windows = open_windows(start, end, zone=zone, days=schedule.lab_days,
-                           opens=schedule.opens, closes=schedule.closes,
-                           holidays=schedule.holidays)
+    windows = open_windows(
+        start,
+        end,
+        zone=zone,
+        days=schedule.lab_days,
+        opens=schedule.opens,
+        closes=schedule.closes,
+        holidays=schedule.holidays,
+    )
     drawing = layout(lanes, start=start, end=end, now=clock.now(), zone=zone, windows=windows)
-    return render(request, "labrecords/schedule/timeline.html", {
-        "schedule": schedule, "form": form, "lanes": lanes, "drawing": drawing, "days": days,
-        "only": only, "start": start, "end": end,
-        "resource_idents": [r.ident for r in schedule.resources],
-        "cautions": cautions_for(sorted({h for lane in lanes for h in lane.hazards})),
-    })
+    return render(
+        request,
+        "labrecords/schedule/timeline.html",
+        {
+            "schedule": schedule,
+            "form": form,
+            "lanes": lanes,
+            "drawing": drawing,
+            "days": days,
+            "only": only,
+            "start": start,
+            "end": end,
+            "resource_idents": [r.ident for r in schedule.resources],
+            "cautions": cautions_for(sorted({h for lane in lanes for h in lane.hazards})),
+        },
+    )

@@ -23,8 +23,10 @@ pytestmark = pytest.mark.django_db
 @pytest.fixture
 def lot(cast):
     """A lot of the cast's own customer with a released plan (three pieces)."""
-    plan = released_plan(lot=LotFactory(order=OrderFactory(customer=cast.customer_org)),
-                         callouts="Coating per MIL-C-48497A, severe abrasion, salt fog")
+    plan = released_plan(
+        lot=LotFactory(order=OrderFactory(customer=cast.customer_org)),
+        callouts="Coating per MIL-C-48497A, severe abrasion, salt fog",
+    )
     return plan.lot
 
 
@@ -65,8 +67,16 @@ def test_labels_print_every_piece_with_a_code_that_opens_its_page(client, cast, 
 
 
 def test_labels_skip_used_places_and_run_onto_a_second_sheet():
-    labels = [Label(piece=f"L1-W{n:02d}", lot="L1", glass="Crown ÄÖ ≤", sequence="A",
-                    url=f"https://lab.invalid/pieces/L1-W{n:02d}/") for n in range(1, 6)]
+    labels = [
+        Label(
+            piece=f"L1-W{n:02d}",
+            lot="L1",
+            glass="Crown ÄÖ ≤",
+            sequence="A",
+            url=f"https://lab.invalid/pieces/L1-W{n:02d}/",
+        )
+        for n in range(1, 6)
+    ]
     pdf = labels_pdf(labels, title="t", skip=PER_SHEET - 2)
     reader = PdfReader(io.BytesIO(pdf))
     assert len(reader.pages) == 2
@@ -87,12 +97,15 @@ def test_label_sheets_are_for_lab_staff_only(client, cast, lot):
 def test_the_latest_custody_event_is_where_the_piece_is(client, cast, lot):
     piece = lot.pieces.order_by("ident").first()
     with clock.frozen_at(MONDAY):
-        custody_services.custody_move(actor=cast.technician, piece=piece,
-                                      place_kind=PlaceKind.SHELF, place="shelf A1")
+        custody_services.custody_move(
+            actor=cast.technician, piece=piece, place_kind=PlaceKind.SHELF, place="shelf A1"
+        )
     client.force_login(cast.technician)
     with clock.frozen_at(MONDAY + datetime.timedelta(hours=2)):
-        response = client.post(f"/pieces/{piece.ident}/custody/move/", {
-            "place_kind": "chamber", "place": "HUM-1", "note": "humidity run"})
+        response = client.post(
+            f"/pieces/{piece.ident}/custody/move/",
+            {"place_kind": "chamber", "place": "HUM-1", "note": "humidity run"},
+        )
     assert response.status_code == 302
     page = client.get(f"/pieces/{piece.ident}/")
     custody = page.context["custody"]
@@ -121,27 +134,41 @@ def test_custody_actions_check_role_and_access(client, cast, lot):
     assert client.get(url).status_code == 405
     assert not CustodyEvent.objects.exists()
     with pytest.raises(PermissionDenied):
-        custody_services.custody_move(actor=cast.reviewer, piece=piece,
-                                      place_kind=PlaceKind.SHELF, place="B1")
+        custody_services.custody_move(
+            actor=cast.reviewer, piece=piece, place_kind=PlaceKind.SHELF, place="B1"
+        )
 
 
 def test_disposal_is_refused_before_the_retention_date(client, cast, lot):
     piece = lot.pieces.first()
-    StepResult.objects.create(step=lot.plans.get().steps.first(), step_key=lot.plans.get()
-                              .steps.first().step_key, piece=piece, verdict="pass",
-                              verdict_reason="set-up", recorded_by=cast.technician,
-                              recorded_at=MONDAY, observed_at=MONDAY)
+    StepResult.objects.create(
+        step=lot.plans.get().steps.first(),
+        step_key=lot.plans.get().steps.first().step_key,
+        piece=piece,
+        verdict="pass",
+        verdict_reason="set-up",
+        recorded_by=cast.technician,
+        recorded_at=MONDAY,
+        observed_at=MONDAY,
+    )
     with clock.frozen_at(MONDAY):
         with pytest.raises(ValidationError, match="no report is issued"):
             custody_services.custody_dispose(actor=cast.technician, piece=piece, note="bin")
         with pytest.raises(ValidationError, match="give the date"):
             custody_services.custody_retain(actor=cast.technician, piece=piece, place="R2")
-        custody_services.custody_retain(actor=cast.technician, piece=piece,
-                                        place="retain cabinet R2",
-                                        retain_until=datetime.date(2026, 12, 1))
+        custody_services.custody_retain(
+            actor=cast.technician,
+            piece=piece,
+            place="retain cabinet R2",
+            retain_until=datetime.date(2026, 12, 1),
+        )
         with pytest.raises(ValidationError, match="never shortened"):
-            custody_services.custody_retain(actor=cast.technician, piece=piece, place="R2",
-                                            retain_until=datetime.date(2026, 11, 30))
+            custody_services.custody_retain(
+                actor=cast.technician,
+                piece=piece,
+                place="R2",
+                retain_until=datetime.date(2026, 11, 30),
+            )
     piece.refresh_from_db()
     assert piece.status == PieceStatus.TESTED
     client.force_login(cast.technician)
@@ -152,11 +179,11 @@ def test_disposal_is_refused_before_the_retention_date(client, cast, lot):
     assert any("kept for re-inspection until 2026-12-01" in m for m in messages)
     # On the retention date itself the piece may go (kept until that date).
     with clock.frozen_at(MONDAY.replace(month=12, day=1, hour=10)):
-        custody_services.custody_dispose(actor=cast.technician, piece=piece,
-                                         note="glass waste bin")
+        custody_services.custody_dispose(actor=cast.technician, piece=piece, note="glass waste bin")
         with pytest.raises(ValidationError, match="was disposed of"):
-            custody_services.custody_move(actor=cast.technician, piece=piece,
-                                          place_kind=PlaceKind.SHELF, place="A1")
+            custody_services.custody_move(
+                actor=cast.technician, piece=piece, place_kind=PlaceKind.SHELF, place="A1"
+            )
     piece.refresh_from_db()
     assert piece.status == PieceStatus.DISPOSED
     assert piece.custody.order_by("-moved_at", "-id").first().place_kind == PlaceKind.DISPOSED
@@ -165,6 +192,7 @@ def test_disposal_is_refused_before_the_retention_date(client, cast, lot):
 def test_an_untested_spare_piece_may_be_disposed_of(cast, lot):
     spare = WitnessPieceFactory(lot=lot, glass=lot.spec.glass)
     with clock.frozen_at(MONDAY):
-        event = custody_services.custody_dispose(actor=cast.engineer, piece=spare,
-                                                 note="chipped on arrival")
+        event = custody_services.custody_dispose(
+            actor=cast.engineer, piece=spare, note="chipped on arrival"
+        )
     assert event.place_kind == PlaceKind.DISPOSED

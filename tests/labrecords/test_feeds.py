@@ -44,8 +44,7 @@ def test_only_the_tokens_hash_is_stored(client, cast, lab):  # noqa: F811
     assert row.token_hash == hashlib.sha256(token.encode()).hexdigest()
     assert row.user == cast.technician and row.revoked_at is None
     assert token not in str(list(AuditEntry.objects.values_list("changes", flat=True)))
-    assert row.token_hash not in str(list(AuditEntry.objects.values_list("changes",
-                                                                         flat=True)))
+    assert row.token_hash not in str(list(AuditEntry.objects.values_list("changes", flat=True)))
 
 
 def test_the_feed_opens_without_sign_in_and_reads_as_rfc_5545(client, cast, lab):  # noqa: F811

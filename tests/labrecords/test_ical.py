@@ -49,24 +49,32 @@ def parse(text: str) -> list[dict[str, str]]:
             events.append(current)
             current = None
         elif current is not None:
-            current[name] = unescape(value) if name in {"SUMMARY", "DESCRIPTION",
-                                                        "LOCATION"} else value
+            current[name] = (
+                unescape(value) if name in {"SUMMARY", "DESCRIPTION", "LOCATION"} else value
+            )
     return events
 
 
 def sample_events():
     start = datetime.datetime(2026, 3, 2, 8, 0, tzinfo=BERLIN)
     return [
-        Event(uid="HUM-1-W01#3@durability-records", start=start,
-              end=start + datetime.timedelta(hours=24),
-              summary="HUM-1: Humidity, lots L26-0001, L26-0002; 49 °C \\ 95 %",
-              description="L26-0001-W01 (lot L26-0001, sequence A): Humidity\n"
-                          "L26-0002-W03 (lot L26-0002, sequence B): Humidity, with a very long "
-                          "note that runs well past seventy-five octets on one line ÄÖÜ ± µ",
-              location="Humidity chamber 1", categories=("humidity",)),
-        Event(uid="HUM-1-block-7@durability-records",
-              start=start + datetime.timedelta(days=2), end=start + datetime.timedelta(days=3),
-              summary="HUM-1 blocked: door seal, humidifier; see log"),
+        Event(
+            uid="HUM-1-W01#3@durability-records",
+            start=start,
+            end=start + datetime.timedelta(hours=24),
+            summary="HUM-1: Humidity, lots L26-0001, L26-0002; 49 °C \\ 95 %",
+            description="L26-0001-W01 (lot L26-0001, sequence A): Humidity\n"
+            "L26-0002-W03 (lot L26-0002, sequence B): Humidity, with a very long "
+            "note that runs well past seventy-five octets on one line ÄÖÜ ± µ",
+            location="Humidity chamber 1",
+            categories=("humidity",),
+        ),
+        Event(
+            uid="HUM-1-block-7@durability-records",
+            start=start + datetime.timedelta(days=2),
+            end=start + datetime.timedelta(days=3),
+            summary="HUM-1 blocked: door seal, humidifier; see log",
+        ),
     ]
 
 
@@ -78,8 +86,11 @@ def test_escaping_follows_rfc_5545_text_rules():
 
 
 def test_every_physical_line_has_at_most_75_octets_and_ends_in_crlf():
-    text = calendar_text(sample_events(), name="HUM-1 Humidity chamber 1",
-                         stamp=datetime.datetime(2026, 3, 1, 12, 0, tzinfo=datetime.UTC))
+    text = calendar_text(
+        sample_events(),
+        name="HUM-1 Humidity chamber 1",
+        stamp=datetime.datetime(2026, 3, 1, 12, 0, tzinfo=datetime.UTC),
+    )
     raw = text.encode("utf-8")
     # RFC 5545 3.1: lines are delimited by CRLF, never by a bare LF or CR.
     assert raw.count(b"\n") == raw.count(b"\r\n") == raw.count(b"\r")
@@ -98,8 +109,7 @@ def test_folding_keeps_the_text_and_the_octet_limit(value):
     physical = folded.split("\r\n")
     assert all(len(p.encode("utf-8")) <= 75 for p in physical)
     assert all(p.startswith(" ") for p in physical[1:])
-    assert folded.replace("\r\n ", "") == "DESCRIPTION:" + value.replace("\r", "").replace(
-        "\n", "")
+    assert folded.replace("\r\n ", "") == "DESCRIPTION:" + value.replace("\r", "").replace("\n", "")
 
 
 def test_events_carry_uid_dtstamp_and_utc_times_and_read_back():
@@ -125,8 +135,9 @@ def test_events_carry_uid_dtstamp_and_utc_times_and_read_back():
 def test_the_icalendar_package_reads_the_same_events():
     icalendar = pytest.importorskip("icalendar")
     events = sample_events()
-    text = calendar_text(events, name="HUM-1",
-                         stamp=datetime.datetime(2026, 3, 1, 12, 0, tzinfo=datetime.UTC))
+    text = calendar_text(
+        events, name="HUM-1", stamp=datetime.datetime(2026, 3, 1, 12, 0, tzinfo=datetime.UTC)
+    )
     calendar = icalendar.Calendar.from_ical(text)
     read = list(calendar.walk("VEVENT"))
     assert [str(e["UID"]) for e in read] == [e.uid for e in events]
@@ -148,5 +159,4 @@ def test_utc_stamp_refuses_a_naive_time():
 def test_an_event_ending_before_it_starts_is_refused():
     start = datetime.datetime(2026, 3, 2, 8, 0, tzinfo=datetime.UTC)
     with pytest.raises(ValueError, match="ends before it starts"):
-        calendar_text([Event(uid="x", start=start, end=start, summary="s")], name="n",
-                      stamp=start)
+        calendar_text([Event(uid="x", start=start, end=start, summary="s")], name="n", stamp=start)

@@ -31,8 +31,9 @@ SALT_FOG_CALLOUTS = "Coating per MIL-C-48497A, severe abrasion, salt fog"
 
 
 def at(year, month, day, hour, minute=0):
-    return timezone.make_aware(datetime.datetime(year, month, day, hour, minute),
-                               timezone.get_default_timezone())
+    return timezone.make_aware(
+        datetime.datetime(year, month, day, hour, minute), timezone.get_default_timezone()
+    )
 
 
 # Monday 2026-11-02, 07:00 in the lab: an hour before the lab opens.
@@ -52,22 +53,41 @@ def lab(cast):
     qm = cast.quality_manager
     hum_instrument = InstrumentFactory(ident="HC-T1", kind="humidity chamber")
     with clock.frozen_at(MONDAY - datetime.timedelta(days=30)):
-        resource_services.lab_hours_set(actor=qm, weekdays=[0, 1, 2, 3, 4],
-                                        opens=datetime.time(8), closes=datetime.time(17),
-                                        valid_from=datetime.date(2026, 1, 1))
+        resource_services.lab_hours_set(
+            actor=qm,
+            weekdays=[0, 1, 2, 3, 4],
+            opens=datetime.time(8),
+            closes=datetime.time(17),
+            valid_from=datetime.date(2026, 1, 1),
+        )
         made = {
             "HUM-1": resource_services.resource_create(
-                actor=qm, ident="HUM-1", name="Humidity chamber", calendar="always",
-                kinds=["humidity"], capacity=4, instrument=hum_instrument),
+                actor=qm,
+                ident="HUM-1",
+                name="Humidity chamber",
+                calendar="always",
+                kinds=["humidity"],
+                capacity=4,
+                instrument=hum_instrument,
+            ),
             "SF-1": resource_services.resource_create(
-                actor=qm, ident="SF-1", name="Salt fog cabinet", calendar="always",
-                kinds=["salt_fog"], capacity=4),
+                actor=qm,
+                ident="SF-1",
+                name="Salt fog cabinet",
+                calendar="always",
+                kinds=["salt_fog"],
+                capacity=4,
+            ),
         }
-        for ident, kinds in (("INSP-1", ["inspection"]), ("SPEC-1", ["spectral_measurement"]),
-                             ("TAPE-1", ["adhesion", "crosshatch"]),
-                             ("ABR-1", ["moderate_abrasion", "severe_abrasion"])):
+        for ident, kinds in (
+            ("INSP-1", ["inspection"]),
+            ("SPEC-1", ["spectral_measurement"]),
+            ("TAPE-1", ["adhesion", "crosshatch"]),
+            ("ABR-1", ["moderate_abrasion", "severe_abrasion"]),
+        ):
             made[ident] = resource_services.resource_create(
-                actor=qm, ident=ident, name=ident, calendar="lab_hours", kinds=kinds, capacity=1)
+                actor=qm, ident=ident, name=ident, calendar="lab_hours", kinds=kinds, capacity=1
+            )
     made["hum_instrument"] = hum_instrument
     return made
 
@@ -79,9 +99,16 @@ def plan_with_due(callouts, due, engineer=None):
 
 def record_done(step, piece, moment, user):
     """Set-up only: a current result for a step (the bench entry is tested elsewhere)."""
-    return StepResult.objects.create(step=step, step_key=step.step_key, piece=piece,
-                                     verdict="pass", verdict_reason="set-up",
-                                     recorded_by=user, recorded_at=moment, observed_at=moment)
+    return StepResult.objects.create(
+        step=step,
+        step_key=step.step_key,
+        piece=piece,
+        verdict="pass",
+        verdict_reason="set-up",
+        recorded_by=user,
+        recorded_at=moment,
+        observed_at=moment,
+    )
 
 
 def test_the_workload_follows_each_pieces_sequence(lab):
@@ -101,8 +128,7 @@ def test_the_workload_follows_each_pieces_sequence(lab):
     assert humidity["condition"].startswith("MIL-C-48497A:humidity v1")
     assert steps[3]["wait_hours"] == 1.0  # recovery after humidity, from the plan
     # The order's due date, at the end of that day.
-    assert workload["lots"] == [{"id": plan.lot.number, "due": "2026-11-07T00:00",
-                                 "priority": 0}]
+    assert workload["lots"] == [{"id": plan.lot.number, "due": "2026-11-07T00:00", "priority": 0}]
 
 
 def test_done_steps_leave_the_workload_and_the_wait_counts_from_the_last_result(lab, cast):
@@ -146,8 +172,7 @@ def test_a_lot_due_before_its_chain_can_end_is_late_with_the_reason(lab):
     assert schedule.late == (row,)
 
 
-def test_marking_the_only_salt_fog_cabinet_broken_moves_its_lots_later_never_earlier(
-        lab, cast):
+def test_marking_the_only_salt_fog_cabinet_broken_moves_its_lots_later_never_earlier(lab, cast):
     salt = [plan_with_due(SALT_FOG_CALLOUTS, datetime.date(2026, 11, 13)) for _ in range(3)]
     other = plan_with_due("MIL-C-48497A", datetime.date(2026, 11, 13))
     before = lab_schedule(now=MONDAY, options=OPTIONS)
@@ -155,9 +180,12 @@ def test_marking_the_only_salt_fog_cabinet_broken_moves_its_lots_later_never_ear
     assert needs == {p.lot_id for p in salt}
     expected_end = MONDAY + datetime.timedelta(days=4)
     with clock.frozen_at(MONDAY):
-        resource_services.resource_mark_broken(actor=cast.quality_manager,
-                                               resource=lab["SF-1"], expected_end=expected_end,
-                                               reason="fog nozzle cracked")
+        resource_services.resource_mark_broken(
+            actor=cast.quality_manager,
+            resource=lab["SF-1"],
+            expected_end=expected_end,
+            reason="fog nozzle cracked",
+        )
     after = lab_schedule(now=MONDAY, options=OPTIONS)
     assert after.fingerprint != before.fingerprint
     old = {r.lot_id: r.promised for r in before.lots}
@@ -179,17 +207,24 @@ def test_a_running_step_stays_in_its_chamber_when_the_schedule_is_made_again(lab
     loaded = MONDAY - datetime.timedelta(hours=5)
     with clock.frozen_at(MONDAY - datetime.timedelta(hours=4)):
         run = chamber_services.chamber_run_create(
-            actor=cast.technician, chamber=lab["hum_instrument"],
-            method_version=steps[2].method_version, condition=condition_of(steps[2].parameters),
-            loaded_at=loaded, pieces=[piece])
+            actor=cast.technician,
+            chamber=lab["hum_instrument"],
+            method_version=steps[2].method_version,
+            condition=condition_of(steps[2].parameters),
+            loaded_at=loaded,
+            pieces=[piece],
+        )
     rows = schedule_inputs(MONDAY).workload["steps"]
     assert rows[0]["fixed"] == {"resource": "HUM-1", "start": "2026-11-02T02:00"}
     assert rows[0]["condition"] == f"chamber run {run.ident}"
     # A breakdown reported now does not move what is already in the chamber.
     with clock.frozen_at(MONDAY):
         resource_services.resource_mark_broken(
-            actor=cast.quality_manager, resource=lab["HUM-1"],
-            expected_end=MONDAY + datetime.timedelta(days=2), reason="controller fault")
+            actor=cast.quality_manager,
+            resource=lab["HUM-1"],
+            expected_end=MONDAY + datetime.timedelta(days=2),
+            reason="controller fault",
+        )
     schedule = lab_schedule(now=MONDAY, options=OPTIONS)
     running = next(s for s in schedule.steps if s.step_id == f"{piece.ident}#3")
     assert running.fixed and running.resource == "HUM-1"
@@ -200,8 +235,9 @@ def test_a_running_step_stays_in_its_chamber_when_the_schedule_is_made_again(lab
 
 def test_a_step_no_resource_can_run_leaves_its_lot_without_a_promise(lab, cast):
     with clock.frozen_at(MONDAY):
-        resource_services.resource_update(actor=cast.quality_manager, resource=lab["SF-1"],
-                                          active=False, reason="cabinet sold")
+        resource_services.resource_update(
+            actor=cast.quality_manager, resource=lab["SF-1"], active=False, reason="cabinet sold"
+        )
     salt = plan_with_due(SALT_FOG_CALLOUTS, datetime.date(2026, 11, 13))
     plain = plan_with_due("MIL-C-48497A", datetime.date(2026, 11, 13))
     schedule = lab_schedule(now=MONDAY, options=OPTIONS)
@@ -212,15 +248,19 @@ def test_a_step_no_resource_can_run_leaves_its_lot_without_a_promise(lab, cast):
     assert rows[plain.lot_id].promised is not None
     # The salt fog piece's later steps wait behind the step that cannot be placed.
     salt_piece = next(u.piece_ident for u in stuck)
-    assert not any(s.piece_ident == salt_piece and s.step_id.endswith(("#4", "#5"))
-                   for s in schedule.steps)
+    assert not any(
+        s.piece_ident == salt_piece and s.step_id.endswith(("#4", "#5")) for s in schedule.steps
+    )
 
 
 def test_condition_ranges_that_cover_no_step_value_are_refused_with_the_reason(lab, cast):
     with clock.frozen_at(MONDAY):
-        resource_services.resource_update(actor=cast.quality_manager, resource=lab["HUM-1"],
-                                          condition_ranges={"rh_pct": [10, 90]},
-                                          reason="humidifier limited")
+        resource_services.resource_update(
+            actor=cast.quality_manager,
+            resource=lab["HUM-1"],
+            condition_ranges={"rh_pct": [10, 90]},
+            reason="humidifier limited",
+        )
     plan = plan_with_due("MIL-C-48497A", None)
     schedule = lab_schedule(now=MONDAY, options=OPTIONS)
     assert [u.lot_id for u in schedule.unschedulable] == [plan.lot_id]
@@ -229,8 +269,11 @@ def test_condition_ranges_that_cover_no_step_value_are_refused_with_the_reason(l
 
 def test_covers_reads_step_values_against_the_resource_ranges():
     # MIL-C-48497A humidity: 49 °C, 95-100 % RH (shared/reference/test-methods.md [pub]).
-    humidity = {"temperature_c": {"value": 49}, "rh_min_pct": {"value": 95},
-                "rh_max_pct": {"value": 100}}
+    humidity = {
+        "temperature_c": {"value": 49},
+        "rh_min_pct": {"value": 95},
+        "rh_max_pct": {"value": 100},
+    }
     assert covers({"temperature_c": [10, 85], "rh_pct": [20, 100]}, humidity)
     assert not covers({"rh_pct": [20, 98]}, humidity)
     assert not covers({"temperature_c": [60, 180]}, humidity)
@@ -262,8 +305,9 @@ def test_the_schedule_is_cached_by_its_inputs(lab, cast, monkeypatch):
     second = lab_schedule(now=MONDAY + datetime.timedelta(minutes=10), options=OPTIONS)
     assert len(calls) == 1 and second.fingerprint == first.fingerprint
     with clock.frozen_at(MONDAY):
-        resource_services.lab_holiday_create(actor=cast.quality_manager,
-                                             day=datetime.date(2026, 11, 2), name="Lab closure")
+        resource_services.lab_holiday_create(
+            actor=cast.quality_manager, day=datetime.date(2026, 11, 2), name="Lab closure"
+        )
     third = lab_schedule(now=MONDAY + datetime.timedelta(minutes=1), options=OPTIONS)
     assert len(calls) == 2 and third.fingerprint != first.fingerprint
     # The holiday moves the hand-worked chain of the single-piece test by one day:
@@ -275,8 +319,9 @@ def test_input_the_scheduler_refuses_is_reported_not_raised(lab):
     from labrecords.selectors_schedule import ScheduleInputs
 
     inputs = schedule_inputs(MONDAY)
-    broken = dict(inputs.workload, steps=[{"id": "x", "piece": "p", "lot": "L", "kind": "nope",
-                                           "hours": 1}])
+    broken = dict(
+        inputs.workload, steps=[{"id": "x", "piece": "p", "lot": "L", "kind": "nope", "hours": 1}]
+    )
     bad = ScheduleInputs(**{**inputs.__dict__, "workload": broken})
     result = scheduling.compute(bad, OPTIONS)
     assert result.error is not None and "unknown kind 'nope'" in result.error

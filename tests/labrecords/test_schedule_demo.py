@@ -75,9 +75,13 @@ def test_a_broken_salt_fog_cabinet_moves_promised_dates_later_never_earlier(clie
         last = max(s.end for s in before.steps if s.resource == "SF-1")
         expected_end = timezone.localtime(last + datetime.timedelta(days=1))
         client.force_login(lab.staff[Role.QUALITY_MANAGER])
-        response = client.post("/resources/SF-1/broken/", {
-            "broken-expected_end": expected_end.strftime("%Y-%m-%dT%H:%M"),
-            "broken-reason": "salt fog nozzle blocked"})
+        response = client.post(
+            "/resources/SF-1/broken/",
+            {
+                "broken-expected_end": expected_end.strftime("%Y-%m-%dT%H:%M"),
+                "broken-reason": "salt fog nozzle blocked",
+            },
+        )
         assert response.status_code == 302
         after = lab_schedule()
     old = {r.lot_id: r.promised for r in before.lots}
