@@ -35,7 +35,6 @@ import uuid
 from collections import defaultdict
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from decimal import Decimal
 from typing import Any
 
 from django.utils import timezone
@@ -558,7 +557,3 @@ def lot_promise(lot: Lot) -> LotPromiseView:
     return LotPromiseView(
         None, due, False, None, "Every planned step has a result: nothing left to schedule."
     )
-
-
-def hours_text(value: float | Decimal) -> str:
-    return f"{float(value):.1f} h"
