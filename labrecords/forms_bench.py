@@ -29,6 +29,7 @@ from labrecords.services.bench import (
     InspectionEntry,
     ResultValues,
     entry_sections,
+    statistics_needed,
     step_rule,
 )
 from labrecords.services.instruments import instrument_state
@@ -502,11 +503,9 @@ class BenchEntry:
 
 
 def _limit_rows(rule: dict[str, Any]) -> list[dict[str, Any]]:
-    if rule.get("rule") != "spectral_limits":
-        return []
-    return [{"band_from_nm": limit["band_nm"][0], "band_to_nm": limit["band_nm"][1],
-             "quantity": limit["quantity"], "statistic": limit["statistic"]}
-            for limit in rule.get("limits", [])]
+    return [{"band_from_nm": row["band_nm"][0], "band_to_nm": row["band_nm"][1],
+             "quantity": row["quantity"], "statistic": row["statistic"]}
+            for row in statistics_needed(rule)]
 
 
 def correction_initial(result: StepResult) -> tuple[dict[str, Any], list[dict[str, Any]],

@@ -209,6 +209,24 @@ def step_clause(step: PlanStep) -> str:
     return " ".join(p for p in (designation, method.clause, name) if p)
 
 
+def statistics_needed(rule: dict[str, Any]) -> list[dict[str, Any]]:
+    """The measured statistics a spectral rule asks for: one per band, quantity and statistic
+    (a minimum and a maximum on the same statistic share it), with both bounds."""
+    needed: dict[tuple, dict[str, Any]] = {}
+    if rule.get("rule") != "spectral_limits":
+        return []
+    for limit in rule.get("limits", []):
+        band = (float(limit["band_nm"][0]), float(limit["band_nm"][1]))
+        key = (band, limit["quantity"], limit["statistic"])
+        row = needed.setdefault(key, {"band_nm": band, "quantity": limit["quantity"],
+                                      "statistic": limit["statistic"], "min": None,
+                                      "max": None})
+        for bound in ("min", "max"):
+            if limit.get(bound) is not None:
+                row[bound] = float(limit[bound])
+    return list(needed.values())
+
+
 def inspection_point(step: PlanStep) -> str:
     """The observation point an inspection at this step records."""
     return "initial" if step.role == "initial_inspection" else "after_exposure"
