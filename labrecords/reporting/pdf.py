@@ -128,8 +128,8 @@ def _lines(lines: Iterable[str], style: ParagraphStyle) -> Paragraph:
 
 
 def _grid(rows: Sequence[Sequence[object]], widths: Sequence[float], *,
-          header: bool = True) -> Table:
-    table = Table(list(rows), colWidths=list(widths), repeatRows=1 if header else 0)
+          header: bool = True, header_rows: int = 1) -> Table:
+    table = Table(list(rows), colWidths=list(widths), repeatRows=header_rows if header else 0)
     commands = [
         ("FONTNAME", (0, 0), (-1, -1), FONT),
         ("GRID", (0, 0), (-1, -1), 0.4, LINE),
@@ -140,7 +140,7 @@ def _grid(rows: Sequence[Sequence[object]], widths: Sequence[float], *,
         ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
     ]
     if header:
-        commands.append(("BACKGROUND", (0, 0), (-1, 0), HEAD_FILL))
+        commands.append(("BACKGROUND", (0, 0), (-1, header_rows - 1), HEAD_FILL))
     table.setStyle(TableStyle(commands))
     return table
 
@@ -262,7 +262,10 @@ def _results(c: ReportContent, s) -> list[Flowable]:
     for r in c.results:
         by_piece.setdefault(r.piece, []).append(r)
     for piece, results in by_piece.items():
-        rows = [_head(["Step", "Result", "Verdict", "Reason", "Uncertainty"], s)]
+        # The piece's name is the table's first row (spanned), repeated with the column
+        # headings on every page the table runs over.
+        rows = [[_p(f"Witness piece {piece}", s["small_bold"]), "", "", "", ""],
+                _head(["Step", "Result", "Verdict", "Reason", "Uncertainty"], s)]
         for r in results:
             verdict = r.verdict_label + (f" [{r.external_marker}]" if r.external_marker else "")
             reason = r.reason + (f" ({r.clause})" if r.clause and r.clause not in r.reason
@@ -273,8 +276,10 @@ def _results(c: ReportContent, s) -> list[Flowable]:
                          _lines(r.values or ("recorded",), s["small"]),
                          _p(verdict, s["small"]), _p(reason, s["small"]),
                          _p(r.uncertainty or "not stated", s["small"])])
-        story.append(_p(f"Witness piece {piece}", s["h4"]))
-        story.append(_grid(rows, widths))
+        table = _grid(rows, widths, header_rows=2)
+        table.setStyle(TableStyle([("SPAN", (0, 0), (-1, 0))]))
+        story.append(Spacer(1, 3))
+        story.append(table)
     story.append(_p(
         "Uncertainty is the expanded uncertainty as recorded with the result; 'not stated' "
         "means none was recorded (a visual grade has none).", s["small"]))
