@@ -84,7 +84,6 @@ _RULES = [
 class ExposureOptionsForm(forms.Form):
     time_zone = forms.CharField(
         max_length=60,
-        initial=settings.TIME_ZONE,
         label="Chamber's time zone",
         help_text="IANA name (Europe/Berlin) or a fixed offset (UTC+01:00) for timestamps "
         "without one",
@@ -114,6 +113,11 @@ class ExposureOptionsForm(forms.Form):
         decimal_places=3,
         label="Logger humidity offset (% RH)",
     )
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        # Read when the form is made, not at import: the lab's zone comes from settings.
+        self.fields["time_zone"].initial = settings.TIME_ZONE
 
 
 class ChamberLogForm(ExposureOptionsForm):

@@ -13,17 +13,25 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from django.core.exceptions import ValidationError
+from django.db.models import Q
 from django.utils import timezone
 
 from durability.dewpoint import dew_point
 from durability.durations import CHAMBER_KINDS
 from durability.errors import InputError
 from durability.exposure.verify import DurationRule, ExposureCondition, SevereSide
-from durability.models import MethodKind, MethodVersion, Resource
+from durability.models import Instrument, MethodKind, MethodVersion
 from durability.safety import cautions_for
 from durability.services import version_as_entry
 from labrecords.access import customer_filter
-from labrecords.models import ChamberRun, ChamberRunPiece, Evidence, EvidenceKind, ExposureCheck
+from labrecords.models import (
+    ChamberRun,
+    ChamberRunPiece,
+    Evidence,
+    EvidenceKind,
+    ExposureCheck,
+    PlanStep,
+)
 from labrecords.selectors_progress import PieceProgress, current_assignments, progress_for
 
 # Below this set point a temperature exposure is a cold test: the lower side is the harder
@@ -595,8 +603,6 @@ def run_pieces_for(user, run: ChamberRun) -> list[RunPieceRow]:
         .order_by("piece__ident")
     )
     rows = list(links)
-    from labrecords.models import PlanStep
-
     names = {
         step_key: name
         for step_key, name in PlanStep.objects.filter(
@@ -659,22 +665,11 @@ def run_page(run: ChamberRun, user) -> RunPage:
 
 def chamber_instruments():
     """Instruments that can hold a chamber run: in service, and named a chamber or cabinet."""
-    from django.db.models import Q
-
-    from durability.models import Instrument
-
     return Instrument.objects.filter(in_service=True).filter(
         Q(kind__icontains="chamber") | Q(kind__icontains="cabinet")
     )
 
 
 def logger_instruments():
-    from durability.models import Instrument
-
+    """Instruments in service whose kind names a data logger."""
     return Instrument.objects.filter(in_service=True, kind__icontains="logger")
-
-
-def chamber_resources_by_instrument() -> dict[int, Resource]:
-    return {
-        r.instrument_id: r for r in Resource.objects.filter(active=True, instrument__isnull=False)
-    }

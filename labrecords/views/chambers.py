@@ -82,7 +82,8 @@ def chamber_run_new(request):
     key = request.GET.get("group") or request.POST.get("group")
     if not key:
         if request.method == "POST":
-            raise Http404
+            messages.error(request, "Choose a group of pieces to load first.")
+            return redirect("labrecords:chamber-new")
         return render(request, "labrecords/chambers/new.html", {"groups": chamber_waiting_groups()})
     group = chamber_waiting_group(key)
     if group is None:

@@ -18,6 +18,7 @@ from labrecords.selectors_chambers import (
     exposure_counts_for,
     exposure_requirement,
     version_condition,
+    version_parameters,
 )
 from labrecords.services import chambers
 from labrecords.services.evidence import stored_name
@@ -374,3 +375,29 @@ def test_fuzzed_logs_either_check_or_name_a_line_and_store_nothing(
     else:
         # A readable variant (a missing reading is left out) is checked and stored.
         assert ExposureCheck.objects.count() == counts[1] + 1
+
+
+def test_a_cold_method_that_requires_continuous_hours_is_read_as_such():
+    from decimal import Decimal
+
+    from durability.models import Method, MethodVersion
+
+    method = Method(code="LAB:cold-soak", name="Cold soak", kind="temperature")
+    version = MethodVersion(
+        method=method,
+        number=1,
+        temperature_c=Decimal("-40"),
+        temperature_tolerance_c=Decimal("2"),
+        duration_h=Decimal("5"),
+        extra={"duration_rule": "continuous"},
+    )
+    requirement = exposure_requirement(version)
+    assert requirement.duration_rule.value == "continuous"
+    assert requirement.required_hours == 5.0
+    # A cold test: the lower side is the harder one (common practice).
+    assert requirement.condition.temperature_severe_side.value == "lower"
+    assert (requirement.condition.temperature_min_c, requirement.condition.temperature_max_c) == (
+        -42.0,
+        -38.0,
+    )
+    assert condition_of(version_parameters(version)) == "-40 ± 2 °C, 5 h"
