@@ -128,6 +128,8 @@ class _Demo:
         # The next round of a lot starts no earlier than the last decision taken on it.
         self.not_before = now - datetime.timedelta(days=3650)
         self.rejected: set[int] = set()
+        self.busy: dict[str, list[tuple[datetime.datetime, datetime.datetime]]] = (
+            defaultdict(list))
 
     # ------------------------------------------------------------ set-up
 
@@ -359,6 +361,20 @@ class _Demo:
                     ends.append(end)
             t = _lab_hours(max(*ends, self.not_before) + datetime.timedelta(minutes=30))
 
+    def free_slot(self, chamber: str, start: datetime.datetime,
+                  length: datetime.timedelta) -> datetime.datetime:
+        """The first time from `start` at which the chamber is free for `length`: a chamber
+        holds one run at a time."""
+        gap = datetime.timedelta(minutes=30)
+        moved = True
+        while moved:
+            moved = False
+            for begins, ends in self.busy[chamber]:
+                if start < ends + gap and start + length + gap > begins:
+                    start = _lab_hours(ends + gap)
+                    moved = True
+        return start
+
     def chamber_run(self, kind: str, condition: str, members: list,
                     t: datetime.datetime) -> datetime.datetime | None:
         step = members[0].open_step
@@ -367,8 +383,9 @@ class _Demo:
             self.out.skipped.append(f"no chamber for {kind} runs")
             return None
         hours = float(step.hours) if step.hours else 24.0
-        loaded_at = t
-        unloaded_at = loaded_at + datetime.timedelta(hours=max(hours, 1.0) + 1.5)
+        length = datetime.timedelta(hours=max(hours, 1.0) + 1.5)
+        loaded_at = self.free_slot(chamber.ident, t, length)
+        unloaded_at = loaded_at + length
         observed_at = _lab_hours(unloaded_at + datetime.timedelta(minutes=40))
         if observed_at > self.now - datetime.timedelta(minutes=10):
             return None
@@ -384,6 +401,7 @@ class _Demo:
             self.out.skipped.append(f"{kind} run for {members[0].piece.lot.number}: "
                                     + " ".join(exc.messages))
             return None
+        self.busy[chamber.ident].append((loaded_at, unloaded_at))
         moment = observed_at
         for progress in members:
             self.record(progress, progress.open_step, moment, run=run)
