@@ -152,15 +152,21 @@ class DefectForm(forms.Form):
     """One defect seen: type, where, how much (ISO 4628-1 style 0-5 grades)."""
 
     defect = forms.ChoiceField(
-        required=False, choices=[("", "—")] + [(d.value, d.words) for d in DefectType])
-    zone = forms.CharField(required=False, max_length=80)
-    extent = forms.CharField(required=False, max_length=80)
+        required=False, choices=[("", "—")] + [(d.value, d.words) for d in DefectType],
+        widget=forms.Select(attrs={"aria-label": "Defect type"}))
+    zone = forms.CharField(required=False, max_length=80,
+                           widget=forms.TextInput(attrs={"aria-label": "Zone"}))
+    extent = forms.CharField(required=False, max_length=80,
+                             widget=forms.TextInput(attrs={"aria-label": "Extent"}))
     quantity = forms.TypedChoiceField(required=False, coerce=int, empty_value=None,
-                                      choices=_GRADE_CHOICES[RatingScale.QUANTITY])
+                                      choices=_GRADE_CHOICES[RatingScale.QUANTITY],
+                                      widget=forms.Select(attrs={"aria-label": "Quantity"}))
     size = forms.TypedChoiceField(required=False, coerce=int, empty_value=None,
-                                  choices=_GRADE_CHOICES[RatingScale.SIZE])
+                                  choices=_GRADE_CHOICES[RatingScale.SIZE],
+                                  widget=forms.Select(attrs={"aria-label": "Size"}))
     intensity = forms.TypedChoiceField(required=False, coerce=int, empty_value=None,
-                                       choices=_GRADE_CHOICES[RatingScale.INTENSITY])
+                                       choices=_GRADE_CHOICES[RatingScale.INTENSITY],
+                                       widget=forms.Select(attrs={"aria-label": "Intensity"}))
 
     def clean(self):
         data = super().clean()
@@ -173,14 +179,24 @@ class DefectForm(forms.Form):
 class SpectralForm(forms.Form):
     """One measured statistic of a spectrum over a band, in %."""
 
-    band_from_nm = forms.DecimalField(required=False, min_value=0, label="Band from (nm)")
-    band_to_nm = forms.DecimalField(required=False, min_value=0, label="Band to (nm)")
-    quantity = forms.ChoiceField(choices=[("R", "Reflection"), ("T", "Transmission")])
+    band_from_nm = forms.DecimalField(
+        required=False, min_value=0, label="Band from (nm)",
+        widget=forms.NumberInput(attrs={"aria-label": "Band from (nm)", "step": "any"}))
+    band_to_nm = forms.DecimalField(
+        required=False, min_value=0, label="Band to (nm)",
+        widget=forms.NumberInput(attrs={"aria-label": "Band to (nm)", "step": "any"}))
+    quantity = forms.ChoiceField(choices=[("R", "Reflection"), ("T", "Transmission")],
+                                 widget=forms.Select(attrs={"aria-label": "Quantity"}))
     statistic = forms.ChoiceField(choices=[("average", "average"), ("maximum", "maximum"),
-                                           ("minimum", "minimum")])
-    value = forms.DecimalField(required=False, label="Measured (%)")
-    expanded_uncertainty = forms.DecimalField(required=False, min_value=0,
-                                              label="Expanded uncertainty (%)")
+                                           ("minimum", "minimum")],
+                                  widget=forms.Select(attrs={"aria-label": "Statistic"}))
+    value = forms.DecimalField(
+        required=False, label="Measured (%)",
+        widget=forms.NumberInput(attrs={"aria-label": "Measured (%)", "step": "any"}))
+    expanded_uncertainty = forms.DecimalField(
+        required=False, min_value=0, label="Expanded uncertainty (%)",
+        widget=forms.NumberInput(attrs={"aria-label": "Expanded uncertainty (%)",
+                                        "step": "any"}))
 
     def clean(self):
         data = super().clean()

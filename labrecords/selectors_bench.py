@@ -12,7 +12,8 @@ from urllib.parse import unquote, urlsplit
 from django.db.models import Prefetch
 from django.utils import timezone
 
-from durability.models import Instrument
+from durability.models import Instrument, ParameterStatus
+from durability.models.methods import TYPED_PARAMETERS
 from durability.safety import Caution, cautions_for
 from labrecords import clock
 from labrecords.models import (
@@ -146,11 +147,14 @@ def initial_observation(piece: WitnessPiece) -> Observation | None:
 
 def parameter_rows(step: PlanStep) -> list[dict[str, object]]:
     """The plan's parameter values for the step, as rows to show."""
+    statuses = dict(ParameterStatus.choices)
     rows = []
     for name, spec in step.parameters.items():
         spec = spec if isinstance(spec, dict) else {"value": spec}
-        rows.append({"name": name.replace("_", " "), "value": spec.get("value"),
-                     "unit": spec.get("unit", ""), "status": spec.get("status", "")})
+        status = str(spec.get("status", ""))
+        label = TYPED_PARAMETERS.get(name, (name.replace("_", " ").capitalize(), ""))[0]
+        rows.append({"name": label, "value": spec.get("value"), "unit": spec.get("unit", ""),
+                     "status": statuses.get(status, status.replace("_", " "))})
     return rows
 
 

@@ -313,3 +313,48 @@ def test_the_piece_results_page_does_not_query_per_revision(client, cast, own,
     client.force_login(cast.technician)
     with django_assert_max_num_queries(20):
         assert client.get(f"/pieces/{own.piece.ident}/results/").status_code == 200
+
+
+def test_a_chamber_step_records_its_run_from_the_form(client, cast, own):
+    from labrecords.models import ChamberRun
+
+    record(own, 1, now=clock.now(), observed_at=clock.now() - datetime.timedelta(hours=30))
+    record(own, 2, now=clock.now(), observed_at=clock.now() - datetime.timedelta(hours=29))
+    client.force_login(cast.technician)
+    page = client.get(_step_url(own, 3)).content.decode()
+    assert "49 ± 2 °C, 95–100 % RH, 24 h" in page and "Hot chamber" in page
+    data = _entry_data(
+        no_defects="on", instruments=[str(own.microscope.pk)], run_chamber=str(own.chamber.pk),
+        run_loaded_at=_now_text(28), run_unloaded_at=_now_text(2))
+    response = client.post(_step_url(own, 3), data)
+    assert response.status_code == 302, response.content.decode()[-3000:]
+    run = ChamberRun.objects.get()
+    assert run.chamber == own.chamber and run.pieces.get().piece == own.piece
+    assert StepResult.objects.get(step_key=own.step(3).step_key).chamber_run == run
+    # The next bench (a correction) offers the run that held the piece.
+    result = StepResult.objects.get(step_key=own.step(3).step_key)
+    assert run.ident in client.get(f"/results/{result.record_key}/").content.decode()
+
+
+def test_a_new_run_must_end_after_it_starts_shown_by_the_field(client, cast, own):
+    record(own, 1, now=clock.now(), observed_at=clock.now() - datetime.timedelta(hours=30))
+    record(own, 2, now=clock.now(), observed_at=clock.now() - datetime.timedelta(hours=29))
+    client.force_login(cast.technician)
+    data = _entry_data(
+        no_defects="on", instruments=[str(own.microscope.pk)], run_chamber=str(own.chamber.pk),
+        run_loaded_at=_now_text(3), run_unloaded_at=_now_text(4))
+    page = client.post(_step_url(own, 3), data).content.decode()
+    assert "Unloaded at: The run must end after it starts." in page
+
+
+@pytest.mark.parametrize(("scanned", "ident"), [
+    ("L26-0001-W01", "L26-0001-W01"),
+    ("  L26-0001-W01\n", "L26-0001-W01"),
+    ("http://host/pieces/L26-0001-W01/", "L26-0001-W01"),
+    ("https://lab.example:8443/pieces/L26-0001-W01", "L26-0001-W01"),
+    ("/pieces/L26%2D0001-W01/", "L26-0001-W01"),
+])
+def test_a_scan_is_read_as_a_piece_id(scanned, ident):
+    from labrecords.selectors_bench import piece_ident_from_scan
+
+    assert piece_ident_from_scan(scanned) == ident
