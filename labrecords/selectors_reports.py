@@ -83,8 +83,10 @@ class PlannedResult:
 
     @property
     def where(self) -> str:
-        return f"piece {self.piece.ident}, step {self.step.sequence.label}.{self.step.order} " \
-               f"{self.step.name}"
+        return (
+            f"piece {self.piece.ident}, step {self.step.sequence.label}.{self.step.order} "
+            f"{self.step.name}"
+        )
 
     @property
     def counts(self) -> bool:
@@ -133,8 +135,9 @@ def lot_results(lot: Lot) -> LotResults:
     if plan is None:
         return LotResults(lot=lot, plan=None, planned=())
     steps = list(
-        plan.steps.select_related("sequence", "retest_of", "method_version__method__standard")
-        .order_by("sequence__position", "order")
+        plan.steps.select_related(
+            "sequence", "retest_of", "method_version__method__standard"
+        ).order_by("sequence__position", "order")
     )
     pieces_by_sequence: dict[int, list[WitnessPiece]] = defaultdict(list)
     for assignment in plan.assignments.select_related("piece__glass").order_by("piece__ident"):
@@ -147,8 +150,12 @@ def lot_results(lot: Lot) -> LotResults:
     }
     repeated = {s.retest_of.step_key for s in steps if s.retest_of_id is not None}
     planned = tuple(
-        PlannedResult(step=step, piece=piece, result=current.get((step.step_key, piece.pk)),
-                      repeated=step.step_key in repeated)
+        PlannedResult(
+            step=step,
+            piece=piece,
+            result=current.get((step.step_key, piece.pk)),
+            repeated=step.step_key in repeated,
+        )
         for step in steps
         for piece in pieces_by_sequence[step.sequence_id]
     )
@@ -187,9 +194,11 @@ def latest_review(lot: Lot) -> Review | None:
 def in_force_report(lot: Lot) -> Report | None:
     """The lot's report (or re-issue) that no re-issue replaced, or None."""
     return (
-        Report.objects.filter(lot=lot, kind__in=[ReportKind.REPORT, ReportKind.REISSUE],
-                              replaced_by__isnull=True)
-        .order_by("-issued_at").first()
+        Report.objects.filter(
+            lot=lot, kind__in=[ReportKind.REPORT, ReportKind.REISSUE], replaced_by__isnull=True
+        )
+        .order_by("-issued_at")
+        .first()
     )
 
 
@@ -206,7 +215,9 @@ def _local(moment: datetime.datetime | None) -> datetime.datetime | None:
 
 def signature_block(signature: Signature) -> SignatureBlock:
     return SignatureBlock(
-        printed_name=signature.printed_name, role=signature.role, meaning=signature.meaning,
+        printed_name=signature.printed_name,
+        role=signature.role,
+        meaning=signature.meaning,
         meaning_label=SignatureMeaning(signature.meaning).label,
         signed_at=signature.signed_at.astimezone(zoneinfo.ZoneInfo(signature.time_zone)),
         time_zone=signature.time_zone,
@@ -241,23 +252,40 @@ def _items(lot: Lot, pieces: Sequence[WitnessPiece]) -> ItemsBlock:
     initial = {
         o.piece_id: o
         for o in Observation.objects.current()
-        .filter(piece__lot=lot, point=InspectionPoint.INITIAL).order_by("recorded_at")
+        .filter(piece__lot=lot, point=InspectionPoint.INITIAL)
+        .order_by("recorded_at")
     }
     design = lot.design
-    detail = ", ".join(x for x in (
-        design.get_coating_type_display(), design.materials,
-        f"{design.layer_count} layer(s)", design.process) if x)
+    detail = ", ".join(
+        x
+        for x in (
+            design.get_coating_type_display(),
+            design.materials,
+            f"{design.layer_count} layer(s)",
+            design.process,
+        )
+        if x
+    )
     spec = lot.spec
     represents = f"{lot.parts} (coating run {lot.number}, {lot.quantity} part(s))"
     return ItemsBlock(
-        lot_number=lot.number, coater=lot.coater.name, design=f"{design.code} {design.name}",
-        design_detail=detail, glass=spec.glass.name if spec.glass else "not stated",
-        parts=lot.parts, quantity=lot.quantity,
-        spec=f"{spec.part_number} {spec.title}".strip(), callouts=spec.callout_text.strip(),
+        lot_number=lot.number,
+        coater=lot.coater.name,
+        design=f"{design.code} {design.name}",
+        design_detail=detail,
+        glass=spec.glass.name if spec.glass else "not stated",
+        parts=lot.parts,
+        quantity=lot.quantity,
+        spec=f"{spec.part_number} {spec.title}".strip(),
+        callouts=spec.callout_text.strip(),
         pieces=tuple(
-            PieceLine(ident=p.ident, glass=p.glass.name, position=p.position or "not recorded",
-                      represents=represents,
-                      condition_on_receipt=_condition_on_receipt(initial.get(p.pk)))
+            PieceLine(
+                ident=p.ident,
+                glass=p.glass.name,
+                position=p.position or "not recorded",
+                represents=represents,
+                condition_on_receipt=_condition_on_receipt(initial.get(p.pk)),
+            )
             for p in pieces
         ),
     )
@@ -283,10 +311,15 @@ def _methods(steps: Iterable[PlanStep]) -> tuple[MethodLine, ...]:
         key = (version.pk, tuple(parameters), tuple(deviations))
         if key not in seen:
             seen[key] = MethodLine(
-                code=method.code, name=method.name, standard=method.standard.designation,
+                code=method.code,
+                name=method.name,
+                standard=method.standard.designation,
                 edition=method.standard.edition or "edition not stated",
-                clause=method.clause or "not stated", version=version.number,
-                parameters=tuple(parameters), deviations=tuple(deviations) or ("none",))
+                clause=method.clause or "not stated",
+                version=version.number,
+                parameters=tuple(parameters),
+                deviations=tuple(deviations) or ("none",),
+            )
     return tuple(seen.values())
 
 
@@ -297,8 +330,9 @@ def _uncertainty(result: StepResult) -> str:
     return f"± {text} {result.uncertainty_unit}".strip()
 
 
-def _results(rows: Sequence[PlannedResult]) -> tuple[tuple[ResultLine, ...],
-                                                     tuple[ExternalLine, ...]]:
+def _results(
+    rows: Sequence[PlannedResult],
+) -> tuple[tuple[ResultLine, ...], tuple[ExternalLine, ...]]:
     markers: dict[tuple[str, str, str], str] = {}
     covers: dict[str, list[str]] = defaultdict(list)
     lines = []
@@ -308,26 +342,41 @@ def _results(rows: Sequence[PlannedResult]) -> tuple[tuple[ResultLine, ...],
             continue
         marker = ""
         if result.external_provider:
-            key = (result.external_provider, result.external_report_ref,
-                   result.external_accreditation)
+            key = (
+                result.external_provider,
+                result.external_report_ref,
+                result.external_accreditation,
+            )
             marker = markers.setdefault(key, f"E{len(markers) + 1}")
             covers[marker].append(row.where)
-        lines.append(ResultLine(
-            piece=row.piece.ident, step=f"{row.step.sequence.label}.{row.step.order} "
-                                        f"{row.step.name}",
-            method=row.step.method_version.method.code, values=values_lines(result.values),
-            verdict=result.verdict, verdict_label=Verdict(result.verdict).label,
-            reason=result.verdict_reason, clause=result.verdict_clause,
-            uncertainty=_uncertainty(result), observed=_local(result.observed_at),
-            revision=result.number, external_marker=marker, counts=row.counts,
-            note="" if row.counts else "does not count: repeated by a retest on new pieces",
-        ))
+        lines.append(
+            ResultLine(
+                piece=row.piece.ident,
+                step=f"{row.step.sequence.label}.{row.step.order} {row.step.name}",
+                method=row.step.method_version.method.code,
+                values=values_lines(result.values),
+                verdict=result.verdict,
+                verdict_label=Verdict(result.verdict).label,
+                reason=result.verdict_reason,
+                clause=result.verdict_clause,
+                uncertainty=_uncertainty(result),
+                observed=_local(result.observed_at),
+                revision=result.number,
+                external_marker=marker,
+                counts=row.counts,
+                note="" if row.counts else "does not count: repeated by a retest on new pieces",
+            )
+        )
     reports = _provider_reports(rows) if markers else {}
     externals = tuple(
         ExternalLine(
-            marker=marker, provider=provider, report_ref=ref or "not recorded",
-            accreditation=accreditation or "not stated", covers=tuple(covers[marker]),
-            evidence=tuple(reports.get(provider, ())) or ("no provider report attached",))
+            marker=marker,
+            provider=provider,
+            report_ref=ref or "not recorded",
+            accreditation=accreditation or "not stated",
+            covers=tuple(covers[marker]),
+            evidence=tuple(reports.get(provider, ())) or ("no provider report attached",),
+        )
         for (provider, ref, accreditation), marker in markers.items()
     )
     return tuple(lines), externals
@@ -335,16 +384,24 @@ def _results(rows: Sequence[PlannedResult]) -> tuple[tuple[ResultLine, ...],
 
 def _provider_reports(rows: Sequence[PlannedResult]) -> dict[str, list[str]]:
     """File names of the provider reports attached to the external results, by provider."""
-    wanted = {(r.piece.pk, r.result.step_key): r.result.external_provider
-              for r in rows if r.result is not None and r.result.external_provider}
+    wanted = {
+        (r.piece.pk, r.result.step_key): r.result.external_provider
+        for r in rows
+        if r.result is not None and r.result.external_provider
+    }
     lot_id = rows[0].piece.lot_id
     found: dict[str, list[str]] = defaultdict(list)
     for evidence in Evidence.objects.filter(
         Q(piece__lot_id=lot_id) | Q(lot_id=lot_id), kind=EvidenceKind.PROVIDER_REPORT
     ).order_by("uploaded_at", "id"):
         provider = wanted.get((evidence.piece_id, evidence.step_key)) or next(
-            (p for (_, key), p in wanted.items()
-             if evidence.piece_id is None and key == evidence.step_key), None)
+            (
+                p
+                for (_, key), p in wanted.items()
+                if evidence.piece_id is None and key == evidence.step_key
+            ),
+            None,
+        )
         if provider and evidence.original_name not in found[provider]:
             found[provider].append(evidence.original_name)
     return found
@@ -357,9 +414,9 @@ def provider_report_missing(planned: Sequence[PlannedResult]) -> list[str]:
         return []
     lot_id = rows[0].piece.lot_id
     attached = set(
-        Evidence.objects.filter(Q(piece__lot_id=lot_id) | Q(lot_id=lot_id),
-                                kind=EvidenceKind.PROVIDER_REPORT)
-        .values_list("piece_id", "step_key")
+        Evidence.objects.filter(
+            Q(piece__lot_id=lot_id) | Q(lot_id=lot_id), kind=EvidenceKind.PROVIDER_REPORT
+        ).values_list("piece_id", "step_key")
     )
     missing = []
     for row in rows:
@@ -367,15 +424,19 @@ def provider_report_missing(planned: Sequence[PlannedResult]) -> list[str]:
         if (row.piece.pk, key) not in attached and (None, key) not in attached:
             missing.append(
                 f"the outside provider's report ({row.result.external_provider}) attached to "
-                f"{row.where}")
+                f"{row.where}"
+            )
         if not row.result.external_report_ref:
             missing.append(f"the outside provider's report reference for {row.where}")
     return missing
 
 
 def _exposures(rows: Sequence[PlannedResult]) -> tuple[ExposureLine, ...]:
-    runs = {r.result.chamber_run.pk: r.result.chamber_run
-            for r in rows if r.result is not None and r.result.chamber_run is not None}
+    runs = {
+        r.result.chamber_run.pk: r.result.chamber_run
+        for r in rows
+        if r.result is not None and r.result.chamber_run is not None
+    }
     if not runs:
         return ()
     latest: dict[int, ExposureCheck] = {}
@@ -385,24 +446,34 @@ def _exposures(rows: Sequence[PlannedResult]) -> tuple[ExposureLine, ...]:
         latest.setdefault(check.run_id, check)
     lot_piece_ids = {r.piece.pk for r in rows}
     pieces: dict[int, list[str]] = defaultdict(list)
-    for link in ChamberRunPiece.objects.filter(run_id__in=runs).select_related("piece") \
-            .order_by("piece__ident"):
+    for link in (
+        ChamberRunPiece.objects.filter(run_id__in=runs)
+        .select_related("piece")
+        .order_by("piece__ident")
+    ):
         if link.piece_id in lot_piece_ids:
             pieces[link.run_id].append(link.piece.ident)
     lines = []
     for run in sorted(runs.values(), key=lambda r: r.loaded_at):
         check = latest.get(run.pk)
         summary = check.summary if check is not None else {}
-        lines.append(ExposureLine(
-            run=run.ident, chamber=f"{run.chamber.ident} {run.chamber.name}",
-            condition=run.condition, loaded=_local(run.loaded_at),
-            unloaded=_local(run.unloaded_at), pieces=tuple(pieces[run.pk]),
-            in_tolerance_hours=_float(summary.get("in_tolerance_hours")),
-            required_hours=_float(summary.get("required_hours")),
-            counts=check.counts if check is not None else None,
-            convention=str(summary.get("convention_text") or (check.convention if check else "")),
-            checked=check is not None,
-        ))
+        lines.append(
+            ExposureLine(
+                run=run.ident,
+                chamber=f"{run.chamber.ident} {run.chamber.name}",
+                condition=run.condition,
+                loaded=_local(run.loaded_at),
+                unloaded=_local(run.unloaded_at),
+                pieces=tuple(pieces[run.pk]),
+                in_tolerance_hours=_float(summary.get("in_tolerance_hours")),
+                required_hours=_float(summary.get("required_hours")),
+                counts=check.counts if check is not None else None,
+                convention=str(
+                    summary.get("convention_text") or (check.convention if check else "")
+                ),
+                checked=check is not None,
+            )
+        )
     return tuple(lines)
 
 
@@ -441,10 +512,14 @@ def _spec_limits(lot: Lot, unit: str) -> tuple[LimitLine, ...]:
         if bound is None:
             continue
         statistic = spec.get_statistic_display().lower() if spec.statistic else "limit"
-        lines.append(LimitLine(
-            start_nm=float(spec.wavelength_min_nm), end_nm=float(spec.wavelength_max_nm),
-            value=float(bound) * scale,
-            label=f"{spec.quantity} {word} {number_text(bound.normalize())} % ({statistic})"))
+        lines.append(
+            LimitLine(
+                start_nm=float(spec.wavelength_min_nm),
+                end_nm=float(spec.wavelength_max_nm),
+                value=float(bound) * scale,
+                label=f"{spec.quantity} {word} {number_text(bound.normalize())} % ({statistic})",
+            )
+        )
     return tuple(lines)
 
 
@@ -453,8 +528,9 @@ def _spectra(lot: Lot, pieces: Sequence[WitnessPiece]) -> tuple[SpectrumPlotData
     from durability.spectra import parse_spectrum
 
     by_piece: dict[int, list[Evidence]] = defaultdict(list)
-    for evidence in Evidence.objects.filter(piece__lot=lot, kind=EvidenceKind.SPECTRUM) \
-            .order_by("uploaded_at", "id"):
+    for evidence in Evidence.objects.filter(piece__lot=lot, kind=EvidenceKind.SPECTRUM).order_by(
+        "uploaded_at", "id"
+    ):
         by_piece[evidence.piece_id].append(evidence)
     plots = []
     for piece in pieces:
@@ -476,11 +552,13 @@ def _spectra(lot: Lot, pieces: Sequence[WitnessPiece]) -> tuple[SpectrumPlotData
             # keep them in the summary), so the curve is the one that was checked.
             options = (evidence.summary.get("import") or {}).get("options") or {}
             try:
-                spectrum = parse_spectrum(_evidence_bytes(evidence),
-                                          filename=evidence.original_name,
-                                          quantity=options.get("quantity") or None,
-                                          x_unit=options.get("x_unit") or None,
-                                          y_unit=options.get("y_unit") or None)
+                spectrum = parse_spectrum(
+                    _evidence_bytes(evidence),
+                    filename=evidence.original_name,
+                    quantity=options.get("quantity") or None,
+                    x_unit=options.get("x_unit") or None,
+                    y_unit=options.get("y_unit") or None,
+                )
             except (InputError, OSError) as exc:
                 notes.append(f"{stage} spectrum {evidence.original_name} not drawn: {exc}")
                 continue
@@ -490,58 +568,91 @@ def _spectra(lot: Lot, pieces: Sequence[WitnessPiece]) -> tuple[SpectrumPlotData
             labels[stage] = f"{stage} ({_local(evidence.uploaded_at):%Y-%m-%d})"
         if "before" not in curves and "after" not in curves:
             if notes:
-                plots.append(SpectrumPlotData(
-                    title=f"Piece {piece.ident}", quantity=quantity, unit=unit, before=(),
-                    after=(), before_label="", after_label="", limits=(), notes=tuple(notes)))
+                plots.append(
+                    SpectrumPlotData(
+                        title=f"Piece {piece.ident}",
+                        quantity=quantity,
+                        unit=unit,
+                        before=(),
+                        after=(),
+                        before_label="",
+                        after_label="",
+                        limits=(),
+                        notes=tuple(notes),
+                    )
+                )
             continue
-        plots.append(SpectrumPlotData(
-            title=f"Piece {piece.ident}: {quantity or 'R or T'} before and after the tests",
-            quantity=quantity, unit=unit, before=curves.get("before", ()),
-            after=curves.get("after", ()), before_label=labels.get("before", ""),
-            after_label=labels.get("after", ""), limits=_spec_limits(lot, unit),
-            notes=tuple(notes)))
+        plots.append(
+            SpectrumPlotData(
+                title=f"Piece {piece.ident}: {quantity or 'R or T'} before and after the tests",
+                quantity=quantity,
+                unit=unit,
+                before=curves.get("before", ()),
+                after=curves.get("after", ()),
+                before_label=labels.get("before", ""),
+                after_label=labels.get("after", ""),
+                limits=_spec_limits(lot, unit),
+                notes=tuple(notes),
+            )
+        )
     return tuple(plots)
 
 
 def _conformity(lot: Lot, planned: Sequence[PlannedResult], rule: str) -> ConformityBlock:
     counted = [r for r in planned if r.counts]
     failing = tuple(
-        f"{r.where}: {r.result.verdict_reason}" for r in counted
-        if r.result.verdict == Verdict.FAIL
+        f"{r.where}: {r.result.verdict_reason}" for r in counted if r.result.verdict == Verdict.FAIL
     )
     invalid = [r for r in counted if r.result.verdict == Verdict.INVALID]
     spec = lot.spec
-    specification = f"coating spec {spec.part_number}" + (
-        f" ({spec.title})" if spec.title else "") + (
-        f", callouts: {' / '.join(spec.callout_text.split())}" if spec.callout_text else "")
+    specification = (
+        f"coating spec {spec.part_number}"
+        + (f" ({spec.title})" if spec.title else "")
+        + (f", callouts: {' / '.join(spec.callout_text.split())}" if spec.callout_text else "")
+    )
     pieces = sorted({r.piece.ident for r in counted})
-    covers = (f"the {len(counted)} counted result(s) in the results section, on witness "
-              f"piece(s) {', '.join(pieces)}") if counted else "no results"
+    covers = (
+        (
+            f"the {len(counted)} counted result(s) in the results section, on witness "
+            f"piece(s) {', '.join(pieces)}"
+        )
+        if counted
+        else "no results"
+    )
     if not counted:
         statement = "No conformity statement: no results are recorded."
         conforms = False
     elif failing or invalid:
         conforms = False
-        statement = (f"Lot {lot.number} does NOT conform to {specification}: "
-                     f"{len(failing)} of {len(counted)} result(s) failed their acceptance "
-                     "criterion" + (f" and {len(invalid)} did not count" if invalid else "")
-                     + ".")
+        statement = (
+            f"Lot {lot.number} does NOT conform to {specification}: "
+            f"{len(failing)} of {len(counted)} result(s) failed their acceptance "
+            "criterion" + (f" and {len(invalid)} did not count" if invalid else "") + "."
+        )
     else:
         conforms = True
-        statement = (f"Lot {lot.number} conforms to {specification}: all {len(counted)} "
-                     "result(s) met their acceptance criterion.")
+        statement = (
+            f"Lot {lot.number} conforms to {specification}: all {len(counted)} "
+            "result(s) met their acceptance criterion."
+        )
     return ConformityBlock(
-        conforms=conforms, statement=statement, covers=covers, specification=specification,
-        decision_rule=DecisionRule(rule).label, decision_rule_text=decision_rule_text(rule),
-        failing=failing)
+        conforms=conforms,
+        statement=statement,
+        covers=covers,
+        specification=specification,
+        decision_rule=DecisionRule(rule).label,
+        decision_rule_text=decision_rule_text(rule),
+        failing=failing,
+    )
 
 
 def _changes(old_review: Review, planned: Sequence[PlannedResult]) -> tuple[ChangeLine, ...]:
     """Results that differ from the revisions the earlier review covered."""
     old = {
         link.result.record_key: link.result
-        for link in ReviewedResult.objects.filter(review=old_review)
-        .select_related("result__piece", "result__step")
+        for link in ReviewedResult.objects.filter(review=old_review).select_related(
+            "result__piece", "result__step"
+        )
     }
     lines = []
     for row in planned:
@@ -551,25 +662,34 @@ def _changes(old_review: Review, planned: Sequence[PlannedResult]) -> tuple[Chan
         before = old.pop(result.record_key, None)
         if before is not None and before.pk == result.pk:
             continue
-        lines.append(ChangeLine(
-            piece=row.piece.ident, step=f"{row.step.sequence.label}.{row.step.order} "
-                                        f"{row.step.name}",
-            before=_result_text(before) if before else "no result",
-            after=_result_text(result),
-            why=result.reason or ("added after the report was issued" if before is None
-                                  else ""),
-        ))
+        lines.append(
+            ChangeLine(
+                piece=row.piece.ident,
+                step=f"{row.step.sequence.label}.{row.step.order} {row.step.name}",
+                before=_result_text(before) if before else "no result",
+                after=_result_text(result),
+                why=result.reason
+                or ("added after the report was issued" if before is None else ""),
+            )
+        )
     for result in old.values():
-        lines.append(ChangeLine(piece=result.piece.ident, step=result.step.name,
-                                before=_result_text(result), after="no longer reported",
-                                why="the step left the test plan"))
+        lines.append(
+            ChangeLine(
+                piece=result.piece.ident,
+                step=result.step.name,
+                before=_result_text(result),
+                after="no longer reported",
+                why="the step left the test plan",
+            )
+        )
     return tuple(lines)
 
 
 def _result_text(result: StepResult) -> str:
     values = "; ".join(values_lines(result.values))
     return f"{Verdict(result.verdict).label} (revision {result.number})" + (
-        f": {values}" if values else "")
+        f": {values}" if values else ""
+    )
 
 
 def report_content(
@@ -585,12 +705,14 @@ def report_content(
     `review` supplies the review signature; `amended_review` (for an amendment) is the review
     the amended report rested on, and the results that changed since are listed.
     """
-    lot = Lot.objects.select_related(
-        "order__customer", "spec__glass", "design", "coater").get(pk=lot.pk)
+    lot = Lot.objects.select_related("order__customer", "spec__glass", "design", "coater").get(
+        pk=lot.pk
+    )
     state = lot_results(lot)
     planned = state.planned
-    pieces = sorted({p.piece.pk: p.piece for p in planned}.values(), key=lambda p: p.ident) or \
-        list(lot.pieces.select_related("glass").order_by("ident"))
+    pieces = sorted({p.piece.pk: p.piece for p in planned}.values(), key=lambda p: p.ident) or list(
+        lot.pieces.select_related("glass").order_by("ident")
+    )
     customer = lot.order.customer
     identity = lab_identity()
     observed = [_local(r.result.observed_at) for r in planned if r.result is not None]
@@ -608,18 +730,28 @@ def report_content(
     )
     return ReportContent(
         header=header,
-        lab=LabBlock(name=identity.name, address=identity.address,
-                     time_zone=settings.TIME_ZONE, accreditation=identity.accreditation),
+        lab=LabBlock(
+            name=identity.name,
+            address=identity.address,
+            time_zone=settings.TIME_ZONE,
+            accreditation=identity.accreditation,
+        ),
         customer=CustomerBlock(
-            name=customer.name, contact_name=customer.contact_name,
-            contact_email=customer.contact_email, address=customer.address,
+            name=customer.name,
+            contact_name=customer.contact_name,
+            contact_email=customer.contact_email,
+            address=customer.address,
             order_number=lot.order.number,
-            customer_order_number=lot.order.customer_order_number),
+            customer_order_number=lot.order.customer_order_number,
+        ),
         items=_items(lot, pieces),
         dates=DatesBlock(
-            coating_run=lot.run_date, received=lot.received_on,
+            coating_run=lot.run_date,
+            received=lot.received_on,
             tested_from=min(observed).date() if observed else None,
-            tested_to=max(observed).date() if observed else None, issued=header.issued_at),
+            tested_to=max(observed).date() if observed else None,
+            issued=header.issued_at,
+        ),
         methods=_methods(p.step for p in planned) if planned else (),
         results=results,
         externals=externals,
@@ -630,9 +762,15 @@ def report_content(
         review_signature=review_signature,
         authorisation=authorisation,
         changes=_changes(amended_review, planned) if amended_review is not None else (),
-        conventions=tuple(dict.fromkeys(
-            str(text) for row in planned if row.result is not None
-            for text in (row.result.conventions or []) if text)),
+        conventions=tuple(
+            dict.fromkeys(
+                str(text)
+                for row in planned
+                if row.result is not None
+                for text in (row.result.conventions or [])
+                if text
+            )
+        ),
     )
 
 
@@ -658,8 +796,9 @@ def latest_issued(lot: Lot) -> Report | None:
     return report.amendments.order_by("-issued_at").first() or report
 
 
-def _export_row(lot: Lot, step: PlanStep, piece: WitnessPiece, result: StepResult,
-                report: Report | None) -> dict[str, object]:
+def _export_row(
+    lot: Lot, step: PlanStep, piece: WitnessPiece, result: StepResult, report: Report | None
+) -> dict[str, object]:
     method = step.method_version.method
     row: dict[str, object] = {
         "order": lot.order.number,
@@ -707,16 +846,25 @@ def order_result_rows(order, user) -> list[dict[str, object]]:
         state = lot_results(lot)
         report = latest_issued(lot)
         if is_lab_staff(user):
-            rows += [_export_row(lot, r.step, r.piece, r.result, report)
-                     for r in state.planned if r.result is not None]
+            rows += [
+                _export_row(lot, r.step, r.piece, r.result, report)
+                for r in state.planned
+                if r.result is not None
+            ]
             continue
         if report is None:
             continue
-        stated = set(ReviewedResult.objects.filter(review_id=report.review_id)
-                     .values_list("result_id", flat=True))
+        stated = set(
+            ReviewedResult.objects.filter(review_id=report.review_id).values_list(
+                "result_id", flat=True
+            )
+        )
         by_key = {(r.step.step_key, r.piece.pk): r for r in state.planned}
-        for result in StepResult.objects.filter(pk__in=stated).select_related("piece") \
-                .order_by("piece__ident"):
+        for result in (
+            StepResult.objects.filter(pk__in=stated)
+            .select_related("piece")
+            .order_by("piece__ident")
+        ):
             planned = by_key.get((result.step_key, result.piece_id))
             if planned is not None:
                 rows.append(_export_row(lot, planned.step, result.piece, result, report))

@@ -8,8 +8,9 @@ from labrecords.models import Report, ReportKind
 
 
 class ReportTable(tables.Table):
-    number = tables.LinkColumn("labrecords:report-detail", args=[tables.A("number")],
-                               verbose_name="Report")
+    number = tables.LinkColumn(
+        "labrecords:report-detail", args=[tables.A("number")], verbose_name="Report"
+    )
     kind = tables.Column(verbose_name="Document")
     lot = tables.Column(accessor="lot__number", verbose_name="Lot")
     customer = tables.Column(accessor="lot__order__customer__name", verbose_name="Customer")

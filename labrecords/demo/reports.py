@@ -77,10 +77,14 @@ def _working(moment: datetime.datetime) -> datetime.datetime:
 
 def _last_activity(lot: Lot, state: LotResults) -> datetime.datetime:
     moments = [row.result.recorded_at for row in state.planned if row.result is not None]
-    runs = [row.result.chamber_run_id for row in state.planned
-            if row.result is not None and row.result.chamber_run_id]
-    moments += list(ExposureCheck.objects.filter(run_id__in=runs)
-                    .values_list("checked_at", flat=True))
+    runs = [
+        row.result.chamber_run_id
+        for row in state.planned
+        if row.result is not None and row.result.chamber_run_id
+    ]
+    moments += list(
+        ExposureCheck.objects.filter(run_id__in=runs).values_list("checked_at", flat=True)
+    )
     moments += list(lot.evidence.values_list("uploaded_at", flat=True))
     return max(moments)
 
@@ -89,8 +93,12 @@ def _second_reviewer(lab):
     if "second_reviewer" not in lab.staff:
         username, full_name, password = SECOND_REVIEWER
         lab.staff["second_reviewer"] = customer_services.user_create(
-            actor=lab.staff[Role.ADMINISTRATOR], username=username, password=password,
-            full_name=full_name, roles=[Role.REVIEWER, Role.ENGINEER])
+            actor=lab.staff[Role.ADMINISTRATOR],
+            username=username,
+            password=password,
+            full_name=full_name,
+            roles=[Role.REVIEWER, Role.ENGINEER],
+        )
     return lab.staff["second_reviewer"]
 
 
@@ -101,19 +109,28 @@ def _reviewer_for(lab, state: LotResults):
     if not review_services.reviewer_problems(reviewer, state):
         return reviewer
     second = _second_reviewer(lab)
-    methods = Method.objects.filter(pk__in={row.step.method_version.method_id
-                                            for row in state.planned})
+    methods = Method.objects.filter(
+        pk__in={row.step.method_version.method_id for row in state.planned}
+    )
     for method in methods:
         if not authorisations.is_authorised(second, method):
             authorisations.method_authorisation_grant(
-                actor=lab.staff[Role.QUALITY_MANAGER], user=second, method=method,
-                reason="authorised to review this method's results (demo)")
+                actor=lab.staff[Role.QUALITY_MANAGER],
+                user=second,
+                method=method,
+                reason="authorised to review this method's results (demo)",
+            )
     return None if review_services.reviewer_problems(second, state) else second
 
 
-def _review_and_issue(lab, lot: Lot, at: datetime.datetime,
-                      correct: Report | None = None, kind: str = "",
-                      change: str = "") -> Report | None:
+def _review_and_issue(
+    lab,
+    lot: Lot,
+    at: datetime.datetime,
+    correct: Report | None = None,
+    kind: str = "",
+    change: str = "",
+) -> Report | None:
     state = lot_results(lot)
     with clock.frozen_at(at):
         reviewer = _reviewer_for(lab, state)
@@ -121,43 +138,71 @@ def _review_and_issue(lab, lot: Lot, at: datetime.datetime,
         return None
     password = _password(reviewer.get_username())
     with clock.frozen_at(at):
-        review_services.review_sign(actor=reviewer, lot=lot, password=password,
-                                    username=reviewer.get_username(),
-                                    comment="checked against the bench records")
+        review_services.review_sign(
+            actor=reviewer,
+            lot=lot,
+            password=password,
+            username=reviewer.get_username(),
+            comment="checked against the bench records",
+        )
     with clock.frozen_at(at + ISSUE_AFTER):
         if correct is None:
-            return report_services.report_issue(actor=reviewer, lot=lot, password=password,
-                                                first_in_session=False)
-        service = (report_services.report_amend if kind == "amendment"
-                   else report_services.report_reissue)
-        return service(actor=reviewer, report=correct, change_description=change,
-                       password=password, first_in_session=False)
+            return report_services.report_issue(
+                actor=reviewer, lot=lot, password=password, first_in_session=False
+            )
+        service = (
+            report_services.report_amend if kind == "amendment" else report_services.report_reissue
+        )
+        return service(
+            actor=reviewer,
+            report=correct,
+            change_description=change,
+            password=password,
+            first_in_session=False,
+        )
 
 
 def _inspection_correction(report: Report, at: datetime.datetime) -> tuple[StepResult, str]:
     """Correct the last inspection-only result of the report's lot at the bench: the
     magnification was entered wrongly (a 10x loupe was used). The verdict does not change."""
     state = lot_results(report.lot)
-    rows = [row for row in state.planned if row.result is not None
-            and bench.entry_sections(row.step) == ("inspection",)
-            and isinstance(row.result.values.get("inspection"), dict)]
+    rows = [
+        row
+        for row in state.planned
+        if row.result is not None
+        and bench.entry_sections(row.step) == ("inspection",)
+        and isinstance(row.result.values.get("inspection"), dict)
+    ]
     if not rows:
         raise ValidationError("no inspection-only result to correct")
     row = rows[-1]
     entry = row.result.values["inspection"]
-    values = bench.ResultValues(inspection=bench.InspectionEntry(
-        no_defects=bool(entry.get("no_defects")),
-        defects=tuple(entry.get("defects") or ()), lighting=entry.get("lighting", ""),
-        background=entry.get("background", ""), magnification="10x loupe"))
-    reason = (f"the magnification was entered as {entry.get('magnification') or 'blank'!r}; "
-              "the inspection was made with a 10x loupe")
+    values = bench.ResultValues(
+        inspection=bench.InspectionEntry(
+            no_defects=bool(entry.get("no_defects")),
+            defects=tuple(entry.get("defects") or ()),
+            lighting=entry.get("lighting", ""),
+            background=entry.get("background", ""),
+            magnification="10x loupe",
+        )
+    )
+    reason = (
+        f"the magnification was entered as {entry.get('magnification') or 'blank'!r}; "
+        "the inspection was made with a 10x loupe"
+    )
     with clock.frozen_at(at):
         corrected = bench.step_result_correct(
-            actor=row.result.recorded_by, revision=row.result, reason=reason, values=values,
+            actor=row.result.recorded_by,
+            revision=row.result,
+            reason=reason,
+            values=values,
             instruments=[link.instrument for link in row.result.instrument_links.all()],
-            consumables=[link.consumable for link in row.result.consumable_links.all()])
-    return corrected, (f"Inspection of piece {row.piece.ident} at step {row.step.order} "
-                       f"({row.step.name}): {reason}. The verdict is unchanged.")
+            consumables=[link.consumable for link in row.result.consumable_links.all()],
+        )
+    return corrected, (
+        f"Inspection of piece {row.piece.ident} at step {row.step.order} "
+        f"({row.step.name}): {reason}. The verdict is unchanged."
+    )
 
 
 def issue_demo_reports(lab, *, now: datetime.datetime | None = None) -> DemoReports:
@@ -198,8 +243,7 @@ def issue_demo_reports(lab, *, now: datetime.datetime | None = None) -> DemoRepo
         _corrected, change = _inspection_correction(report, at)
         if kind == "reissue":
             change = f"Complete re-issue. {change}"
-        made = _review_and_issue(lab, report.lot, later, correct=report, kind=kind,
-                                 change=change)
+        made = _review_and_issue(lab, report.lot, later, correct=report, kind=kind, change=change)
         if made is not None:
             setattr(done, kind, made.number)
     return done

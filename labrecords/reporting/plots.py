@@ -57,8 +57,9 @@ def spectrum_drawing(plot: SpectrumPlotData, width: float = 480, height: float =
     drawing.add(String(left, height - 12, plot.title, fontName=FONT_BOLD, fontSize=8.5))
     curves = [c for c in (plot.before, plot.after) if c]
     if not curves:
-        drawing.add(String(left, height / 2, "No spectrum could be drawn.", fontName=FONT,
-                           fontSize=8))
+        drawing.add(
+            String(left, height / 2, "No spectrum could be drawn.", fontName=FONT, fontSize=8)
+        )
         return drawing
     xs = [x for curve in curves for x, _ in curve]
     ys = [y for curve in curves for _, y in curve] + [limit.value for limit in plot.limits]
@@ -75,23 +76,48 @@ def spectrum_drawing(plot: SpectrumPlotData, width: float = 480, height: float =
     for limit in plot.limits:
         a, b = max(limit.start_nm, x0), min(limit.end_nm, x1)
         if b > a:
-            drawing.add(Rect(px(a), bottom, px(b) - px(a), top - bottom, fillColor=BAND,
-                             strokeColor=None))
+            drawing.add(
+                Rect(px(a), bottom, px(b) - px(a), top - bottom, fillColor=BAND, strokeColor=None)
+            )
     for x in x_ticks:
         drawing.add(Line(px(x), bottom, px(x), top, strokeColor=GRID, strokeWidth=0.3))
-        drawing.add(String(px(x), bottom - 10, _tick_text(x), fontName=FONT, fontSize=7,
-                           textAnchor="middle"))
+        drawing.add(
+            String(
+                px(x), bottom - 10, _tick_text(x), fontName=FONT, fontSize=7, textAnchor="middle"
+            )
+        )
     for y in y_ticks:
         drawing.add(Line(left, py(y), right, py(y), strokeColor=GRID, strokeWidth=0.3))
-        drawing.add(String(left - 4, py(y) - 2.5, _tick_text(y), fontName=FONT, fontSize=7,
-                           textAnchor="end"))
-    drawing.add(Rect(left, bottom, right - left, top - bottom, fillColor=None,
-                     strokeColor=colors.black, strokeWidth=0.6))
-    drawing.add(String((left + right) / 2, 6, "Wavelength (nm)", fontName=FONT, fontSize=7.5,
-                       textAnchor="middle"))
+        drawing.add(
+            String(
+                left - 4, py(y) - 2.5, _tick_text(y), fontName=FONT, fontSize=7, textAnchor="end"
+            )
+        )
+    drawing.add(
+        Rect(
+            left,
+            bottom,
+            right - left,
+            top - bottom,
+            fillColor=None,
+            strokeColor=colors.black,
+            strokeWidth=0.6,
+        )
+    )
+    drawing.add(
+        String(
+            (left + right) / 2,
+            6,
+            "Wavelength (nm)",
+            fontName=FONT,
+            fontSize=7.5,
+            textAnchor="middle",
+        )
+    )
     quantity = {"R": "Reflectance R", "T": "Transmittance T"}.get(plot.quantity, "R or T")
-    ylabel = String(0, 0, f"{quantity} ({plot.unit})", fontName=FONT, fontSize=7.5,
-                    textAnchor="middle")
+    ylabel = String(
+        0, 0, f"{quantity} ({plot.unit})", fontName=FONT, fontSize=7.5, textAnchor="middle"
+    )
     rotated = Group(ylabel)
     rotated.rotate(90)
     rotated.translate((bottom + top) / 2, -12)
@@ -111,13 +137,31 @@ def spectrum_drawing(plot: SpectrumPlotData, width: float = 480, height: float =
     for limit in plot.limits:
         a, b = max(limit.start_nm, x0), min(limit.end_nm, x1)
         if b > a:
-            drawing.add(Line(px(a), py(limit.value), px(b), py(limit.value), strokeColor=LIMIT,
-                             strokeWidth=1.0, strokeDashArray=[1, 2]))
+            drawing.add(
+                Line(
+                    px(a),
+                    py(limit.value),
+                    px(b),
+                    py(limit.value),
+                    strokeColor=LIMIT,
+                    strokeWidth=1.0,
+                    strokeDashArray=[1, 2],
+                )
+            )
             legend.append((limit.label, LIMIT, [1, 2]))
     x = left + 6
     for text, color, dash in legend:
-        drawing.add(Line(x, top - 8, x + 14, top - 8, strokeColor=color, strokeWidth=1.2,
-                         strokeDashArray=dash))
+        drawing.add(
+            Line(
+                x,
+                top - 8,
+                x + 14,
+                top - 8,
+                strokeColor=color,
+                strokeWidth=1.2,
+                strokeDashArray=dash,
+            )
+        )
         drawing.add(String(x + 17, top - 10.5, text, fontName=FONT, fontSize=6.5))
         x += 24 + 3.4 * len(text)
     return drawing

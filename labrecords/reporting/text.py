@@ -73,13 +73,22 @@ def _inspection_text(entry: Mapping[str, object]) -> str:
                 continue
             name = str(defect.get("defect", "")).replace("_", " ")
             where = ", ".join(str(defect[k]) for k in ("zone", "extent") if defect.get(k))
-            grades = ", ".join(f"{k} {defect[k]}" for k in ("quantity", "size", "intensity")
-                               if defect.get(k) not in (None, ""))
-            parts.append(" ".join(x for x in (name, f"({where})" if where else "",
-                                               f"[{grades}]" if grades else "") if x))
+            grades = ", ".join(
+                f"{k} {defect[k]}"
+                for k in ("quantity", "size", "intensity")
+                if defect.get(k) not in (None, "")
+            )
+            parts.append(
+                " ".join(
+                    x
+                    for x in (name, f"({where})" if where else "", f"[{grades}]" if grades else "")
+                    if x
+                )
+            )
         seen = "; ".join(parts) or "defects recorded"
-    how = ", ".join(str(entry[k]) for k in ("lighting", "background", "magnification")
-                    if entry.get(k))
+    how = ", ".join(
+        str(entry[k]) for k in ("lighting", "background", "magnification") if entry.get(k)
+    )
     return f"{seen} ({how})" if how else seen
 
 
@@ -100,8 +109,10 @@ def _spectral_text(entry: Mapping[str, object]) -> str:
     band_text = f" {number_text(band[0])}-{number_text(band[1])} nm" if len(band) == 2 else ""
     unit = str(entry.get("unit") or "")
     value = entry.get("value")
-    text = f"{entry.get('quantity', '')} {entry.get('statistic', '')}{band_text}: " \
-           f"{value_text(value)} {unit}".strip()
+    text = (
+        f"{entry.get('quantity', '')} {entry.get('statistic', '')}{band_text}: "
+        f"{value_text(value)} {unit}".strip()
+    )
     uncertainty = entry.get("expanded_uncertainty")
     if uncertainty not in (None, ""):
         text += f" (U = {value_text(uncertainty)} {unit})".rstrip()
@@ -110,11 +121,15 @@ def _spectral_text(entry: Mapping[str, object]) -> str:
 
 # Keys whose structure the bench entry defines; anything else is shown generically.
 _SHAPED = {
-    "inspection": lambda v: f"inspection: {_inspection_text(v)}" if isinstance(v, Mapping)
-    else None,
+    "inspection": lambda v: (
+        f"inspection: {_inspection_text(v)}" if isinstance(v, Mapping) else None
+    ),
     "comparison": lambda v: _comparison_text(v) if isinstance(v, Mapping) else None,
-    "spectral": lambda v: "; ".join(_spectral_text(x) for x in v if isinstance(x, Mapping))
-    if isinstance(v, list) else None,
+    "spectral": lambda v: (
+        "; ".join(_spectral_text(x) for x in v if isinstance(x, Mapping))
+        if isinstance(v, list)
+        else None
+    ),
 }
 
 
@@ -132,8 +147,10 @@ def values_lines(values: Mapping[str, object]) -> tuple[str, ...]:
         label, unit = label_and_unit(str(key))
         if isinstance(value, Mapping) and "value" in value:
             lines.append(f"{label}: {value_text(value)}")
-        elif unit and isinstance(value, int | float | decimal.Decimal) and not isinstance(
-            value, bool
+        elif (
+            unit
+            and isinstance(value, int | float | decimal.Decimal)
+            and not isinstance(value, bool)
         ):
             space = "" if unit == "°" else " "  # 45°, but 0.4 %
             lines.append(f"{label}: {number_text(value)}{space}{unit}")

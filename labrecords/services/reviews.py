@@ -46,12 +46,15 @@ from labrecords.services.lots import lot_stage_set
 logger = logging.getLogger("labrecords.signing")
 
 WRONG_CREDENTIALS = "The user name or password is not correct; nothing was signed."
-USERNAME_NEEDED = ("Enter your user name as well: the first signing in a session asks for "
-                   "both user name and password.")
+USERNAME_NEEDED = (
+    "Enter your user name as well: the first signing in a session asks for "
+    "both user name and password."
+)
 
 
-def signing_credentials_check(*, actor, password: str, username: str | None,
-                              first_in_session: bool, what: str) -> None:
+def signing_credentials_check(
+    *, actor, password: str, username: str | None, first_in_session: bool, what: str
+) -> None:
     """Refuse a signature unless the signer re-entered their credentials.
 
     `first_in_session`: the caller's session has not signed yet, so the user name is
@@ -69,10 +72,15 @@ def signing_credentials_check(*, actor, password: str, username: str | None,
         return
     if problem[1] == WRONG_CREDENTIALS:
         with transaction.atomic():
-            audit_record(actor=actor, action="signing refused", obj=actor,
-                         after={"signing": what, "because": "wrong user name or password"})
-        logger.warning("signing refused for user %s (%s): wrong user name or password",
-                       actor.pk, what)
+            audit_record(
+                actor=actor,
+                action="signing refused",
+                obj=actor,
+                after={"signing": what, "because": "wrong user name or password"},
+            )
+        logger.warning(
+            "signing refused for user %s (%s): wrong user name or password", actor.pk, what
+        )
     raise ValidationError({problem[0]: problem[1]})
 
 
@@ -88,15 +96,17 @@ def reviewer_problems(user, state: LotResults) -> list[str]:
     rows = [row for row in state.planned if row.result is not None]
     keys = {row.result.record_key for row in rows}
     own = set(
-        StepResult.objects.filter(record_key__in=keys, recorded_by=user)
-        .values_list("record_key", flat=True)
+        StepResult.objects.filter(record_key__in=keys, recorded_by=user).values_list(
+            "record_key", flat=True
+        )
     )
     if own:
         done = [row.where for row in rows if row.result.record_key in own]
         problems.append(
             f"{printed_name(user)} recorded {len(done)} of these results ({'; '.join(done[:3])}"
             f"{'; ...' if len(done) > 3 else ''}): the review is done by someone who did "
-            "not do the work")
+            "not do the work"
+        )
     methods = {row.step.method_version.method_id: row.step.method_version.method for row in rows}
     listed: dict[int, set[int]] = defaultdict(set)
     for method_id, user_id in MethodAuthorisation.objects.filter(
@@ -105,21 +115,34 @@ def reviewer_problems(user, state: LotResults) -> list[str]:
         listed[method_id].add(user_id)
     for method_id, method in sorted(methods.items(), key=lambda item: item[1].code):
         if listed[method_id] and user.pk not in listed[method_id]:
-            problems.append(f"{printed_name(user)} is not on the authorisation list for method "
-                            f"{method.code}")
+            problems.append(
+                f"{printed_name(user)} is not on the authorisation list for method {method.code}"
+            )
     return problems
 
 
-def review_sign(*, actor, lot: Lot, password: str, username: str | None = None,
-                first_in_session: bool = True, comment: str = "") -> Review:
+def review_sign(
+    *,
+    actor,
+    lot: Lot,
+    password: str,
+    username: str | None = None,
+    first_in_session: bool = True,
+    comment: str = "",
+) -> Review:
     """Review a lot's current results and sign the review (meaning: review).
 
     Refused (ValidationError naming each item) while a result is missing or invalid, or when
     the actor may not review them (see the module doc). Moves the lot to "signed".
     """
     require_role(actor, Role.REVIEWER)
-    signing_credentials_check(actor=actor, password=password, username=username,
-                              first_in_session=first_in_session, what=f"review of lot {lot}")
+    signing_credentials_check(
+        actor=actor,
+        password=password,
+        username=username,
+        first_in_session=first_in_session,
+        what=f"review of lot {lot}",
+    )
     return _review_sign(actor=actor, lot=lot, comment=comment)
 
 
@@ -129,25 +152,41 @@ def _review_sign(*, actor, lot: Lot, comment: str) -> Review:
     state = lot_results(lot)
     missing = state.problems()
     if missing:
-        raise ValidationError({"review": [f"Cannot sign the review: missing {item}."
-                                          for item in missing]})
+        raise ValidationError(
+            {"review": [f"Cannot sign the review: missing {item}." for item in missing]}
+        )
     problems = reviewer_problems(actor, state)
     if problems:
         raise ValidationError({"review": [f"Cannot sign the review: {p}." for p in problems]})
     now = clock.now()
-    review = create_audited(actor=actor, obj=Review(lot=lot, reviewer=actor, reviewed_at=now,
-                                                    comment=comment))
+    review = create_audited(
+        actor=actor, obj=Review(lot=lot, reviewer=actor, reviewed_at=now, comment=comment)
+    )
     results = state.results
     ReviewedResult.objects.bulk_create(
-        [ReviewedResult(review=review, result=result) for result in results])
+        [ReviewedResult(review=review, result=result) for result in results]
+    )
     signature = Signature(
-        signer=actor, printed_name=printed_name(actor), role=signer_role(actor, Role.REVIEWER),
-        meaning=SignatureMeaning.REVIEW, signed_at=now, time_zone=settings.TIME_ZONE,
-        review=review)
+        signer=actor,
+        printed_name=printed_name(actor),
+        role=signer_role(actor, Role.REVIEWER),
+        meaning=SignatureMeaning.REVIEW,
+        signed_at=now,
+        time_zone=settings.TIME_ZONE,
+        review=review,
+    )
     create_audited(actor=actor, obj=signature)
-    audit_record(actor=actor, action="review covers", obj=review,
-                 after={"results": sorted(r.pk for r in results), "lot": lot.pk})
+    audit_record(
+        actor=actor,
+        action="review covers",
+        obj=review,
+        after={"results": sorted(r.pk for r in results), "lot": lot.pk},
+    )
     if lot.stage != LotStage.SIGNED:
-        lot_stage_set(actor=actor, lot=lot, stage=LotStage.SIGNED,
-                      reason=f"results reviewed and signed by {printed_name(actor)}")
+        lot_stage_set(
+            actor=actor,
+            lot=lot,
+            stage=LotStage.SIGNED,
+            reason=f"results reviewed and signed by {printed_name(actor)}",
+        )
     return review

@@ -79,9 +79,11 @@ def _errors_into(form, exc: ValidationError) -> None:
 
 
 def _credentials(request, form) -> dict:
-    return {"password": form.cleaned_data["password"],
-            "username": form.cleaned_data.get("username"),
-            "first_in_session": _first_in_session(request)}
+    return {
+        "password": form.cleaned_data["password"],
+        "username": form.cleaned_data.get("username"),
+        "first_in_session": _first_in_session(request),
+    }
 
 
 def _plots(content) -> list[tuple[object, str]]:
@@ -101,7 +103,8 @@ class ReportListView(LoginRequiredMixin, SingleTableMixin, FilterView):
 
     def get_queryset(self):
         return Report.objects.visible_to(self.request.user).select_related(
-            "lot__order__customer", "amends__replaced_by", "replaces", "replaced_by")
+            "lot__order__customer", "amends__replaced_by", "replaces", "replaced_by"
+        )
 
     def get_context_data(self, **kwargs):
         context = super().get_context_data(**kwargs)
@@ -114,19 +117,25 @@ class ReportListView(LoginRequiredMixin, SingleTableMixin, FilterView):
 @login_required
 def report_detail(request, number: str):
     report = report_for_user(request.user, number)
-    can_correct = (is_lab_staff(request.user)
-                   and has_role(request.user, *report_services.ISSUERS)
-                   and report.kind != ReportKind.AMENDMENT
-                   and report_status(report) == "In force")
-    return render(request, "labrecords/reports/detail.html", {
-        "report": report,
-        "status": report_status(report),
-        "amendments": list(report.amendments.order_by("issued_at")),
-        "signatures": list(report.review.signatures.all()) + list(report.signatures.all()),
-        "decision_rule": DecisionRule(report.decision_rule).label,
-        "can_correct": can_correct,
-        "verify_url": report_services.verify_url(report.verification_code),
-    })
+    can_correct = (
+        is_lab_staff(request.user)
+        and has_role(request.user, *report_services.ISSUERS)
+        and report.kind != ReportKind.AMENDMENT
+        and report_status(report) == "In force"
+    )
+    return render(
+        request,
+        "labrecords/reports/detail.html",
+        {
+            "report": report,
+            "status": report_status(report),
+            "amendments": list(report.amendments.order_by("issued_at")),
+            "signatures": list(report.review.signatures.all()) + list(report.signatures.all()),
+            "decision_rule": DecisionRule(report.decision_rule).label,
+            "can_correct": can_correct,
+            "verify_url": report_services.verify_url(report.verification_code),
+        },
+    )
 
 
 @require_safe
@@ -139,8 +148,12 @@ def report_pdf(request, number: str):
     except ValidationError as exc:
         logger.error("report %s: %s", report.number, exc.messages[0])
         return HttpResponse(exc.messages[0], status=500, content_type="text/plain")
-    return FileResponse(io.BytesIO(data), as_attachment=True, filename=f"{report.number}.pdf",
-                        content_type="application/pdf")
+    return FileResponse(
+        io.BytesIO(data),
+        as_attachment=True,
+        filename=f"{report.number}.pdf",
+        content_type="application/pdf",
+    )
 
 
 # ---------------------------------------------------------------- review and issue
@@ -157,9 +170,12 @@ def lot_review(request, pk: int):
         require_role(request.user, Role.REVIEWER)
         if form.is_valid():
             try:
-                review_services.review_sign(actor=request.user, lot=lot,
-                                            comment=form.cleaned_data["comment"],
-                                            **_credentials(request, form))
+                review_services.review_sign(
+                    actor=request.user,
+                    lot=lot,
+                    comment=form.cleaned_data["comment"],
+                    **_credentials(request, form),
+                )
             except ValidationError as exc:
                 _errors_into(form, exc)
             else:
@@ -168,17 +184,24 @@ def lot_review(request, pk: int):
                 return redirect("labrecords:lot-report", pk=lot.pk)
     state = lot_results(lot)
     is_reviewer = has_role(request.user, Role.REVIEWER)
-    reviews = [(review, review_void_reasons(review))
-               for review in lot.reviews.select_related("reviewer").order_by("-reviewed_at")]
-    return render(request, "labrecords/reports/lot_review.html", {
-        "lot": lot,
-        "rows": [row for row in state.planned],
-        "missing": state.problems(),
-        "eligibility": review_services.reviewer_problems(request.user, state)
-        if is_reviewer else [],
-        "reviews": reviews,
-        "form": form if is_reviewer else None,
-    })
+    reviews = [
+        (review, review_void_reasons(review))
+        for review in lot.reviews.select_related("reviewer").order_by("-reviewed_at")
+    ]
+    return render(
+        request,
+        "labrecords/reports/lot_review.html",
+        {
+            "lot": lot,
+            "rows": [row for row in state.planned],
+            "missing": state.problems(),
+            "eligibility": review_services.reviewer_problems(request.user, state)
+            if is_reviewer
+            else [],
+            "reviews": reviews,
+            "form": form if is_reviewer else None,
+        },
+    )
 
 
 @require_http_methods(["GET", "HEAD", "POST"])
@@ -192,8 +215,9 @@ def lot_report(request, pk: int):
         require_role(request.user, *report_services.ISSUERS)
         if form.is_valid():
             try:
-                report = report_services.report_issue(actor=request.user, lot=lot,
-                                                      **_credentials(request, form))
+                report = report_services.report_issue(
+                    actor=request.user, lot=lot, **_credentials(request, form)
+                )
             except ValidationError as exc:
                 _errors_into(form, exc)
             else:
@@ -204,10 +228,18 @@ def lot_report(request, pk: int):
     _review, missing = report_services.report_missing_items(lot)
     existing = in_force_report(lot)
     may_issue = has_role(request.user, *report_services.ISSUERS) and existing is None
-    return render(request, "labrecords/reports/lot_report.html", {
-        "lot": lot, "content": content, "plots": _plots(content), "missing": missing,
-        "existing": existing, "form": form if may_issue else None,
-    })
+    return render(
+        request,
+        "labrecords/reports/lot_report.html",
+        {
+            "lot": lot,
+            "content": content,
+            "plots": _plots(content),
+            "missing": missing,
+            "existing": existing,
+            "form": form if may_issue else None,
+        },
+    )
 
 
 @require_safe
@@ -217,23 +249,33 @@ def lot_report_draft_pdf(request, pk: int):
     lab_staff_only(request.user)
     lot = lot_for_user(request.user, pk)
     pdf = render_report(report_services.draft_content(lot))
-    return FileResponse(io.BytesIO(pdf), as_attachment=True,
-                        filename=f"draft-{lot.number}.pdf", content_type="application/pdf")
+    return FileResponse(
+        io.BytesIO(pdf),
+        as_attachment=True,
+        filename=f"draft-{lot.number}.pdf",
+        content_type="application/pdf",
+    )
 
 
 def _correct(request, number: str, kind: str):
     lab_staff_only(request.user)
     report = report_for_user(request.user, number)
     form = CorrectionForm(request.POST or None, first_in_session=_first_in_session(request))
-    service = (report_services.report_amend if kind == ReportKind.AMENDMENT
-               else report_services.report_reissue)
+    service = (
+        report_services.report_amend
+        if kind == ReportKind.AMENDMENT
+        else report_services.report_reissue
+    )
     if request.method == "POST":
         require_role(request.user, *report_services.ISSUERS)
         if form.is_valid():
             try:
-                issued = service(actor=request.user, report=report,
-                                 change_description=form.cleaned_data["change_description"],
-                                 **_credentials(request, form))
+                issued = service(
+                    actor=request.user,
+                    report=report,
+                    change_description=form.cleaned_data["change_description"],
+                    **_credentials(request, form),
+                )
             except ValidationError as exc:
                 _errors_into(form, exc)
             else:
@@ -241,10 +283,17 @@ def _correct(request, number: str, kind: str):
                 messages.success(request, f"{ReportKind(kind).label} {issued.number} issued.")
                 return redirect("labrecords:report-detail", number=issued.number)
     _review, missing = report_services.report_missing_items(report.lot)
-    return render(request, "labrecords/reports/correct.html", {
-        "report": report, "kind": kind, "kind_label": ReportKind(kind).label,
-        "missing": missing, "form": form,
-    })
+    return render(
+        request,
+        "labrecords/reports/correct.html",
+        {
+            "report": report,
+            "kind": kind,
+            "kind_label": ReportKind(kind).label,
+            "missing": missing,
+            "form": form,
+        },
+    )
 
 
 @require_http_methods(["GET", "HEAD", "POST"])
@@ -278,7 +327,8 @@ def order_results_xlsx(request, pk: int):
     order = order_for_user(request.user, pk)
     data = xlsx_bytes(results_frame(order_result_rows(order, request.user)))
     response = HttpResponse(
-        data, content_type="application/vnd.openxmlformats-officedocument.spreadsheetml.sheet")
+        data, content_type="application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
+    )
     response["Content-Disposition"] = f'attachment; filename="{order.number}-results.xlsx"'
     return response
 
@@ -311,10 +361,18 @@ def _over_limit(request) -> int:
 def _verify(request, code: str | None):
     wait = _over_limit(request)
     if wait:
-        response = render(request, "labrecords/reports/verify.html",
-                          {"form": VerifyForm(), "limited": True, "wait_minutes":
-                           -(-wait // 60), "limit": VERIFY_LIMIT,
-                           "window_minutes": VERIFY_WINDOW_S // 60}, status=429)
+        response = render(
+            request,
+            "labrecords/reports/verify.html",
+            {
+                "form": VerifyForm(),
+                "limited": True,
+                "wait_minutes": -(-wait // 60),
+                "limit": VERIFY_LIMIT,
+                "window_minutes": VERIFY_WINDOW_S // 60,
+            },
+            status=429,
+        )
         response["Retry-After"] = str(wait)
         return response
     form = VerifyForm({"code": code} if code is not None else None)
@@ -323,13 +381,19 @@ def _verify(request, code: str | None):
     if code is not None:
         if form.is_valid():
             normal = report_services.normalise_code(form.cleaned_data["code"])
-            found = (Report.objects.filter(verification_code=normal)
-                     .values("number", "issued_at", "sha256").first())
+            found = (
+                Report.objects.filter(verification_code=normal)
+                .values("number", "issued_at", "sha256")
+                .first()
+            )
         if found is None:
             status = 404
-    return render(request, "labrecords/reports/verify.html",
-                  {"form": form, "found": found, "looked_up": code is not None},
-                  status=status)
+    return render(
+        request,
+        "labrecords/reports/verify.html",
+        {"form": form, "found": found, "looked_up": code is not None},
+        status=status,
+    )
 
 
 @require_safe

@@ -25,14 +25,22 @@ def issued(cast):
     for customer in (cast.customer_org, cast.other_org):
         lot = finished_lot(cast, customer=customer)
         with clock.frozen_at(MOMENT + datetime.timedelta(hours=3)):
-            reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                                username="rev")
-            made.append(reports.report_issue(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                                             username="rev"))
+            reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
+            made.append(
+                reports.report_issue(
+                    actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev"
+                )
+            )
     with clock.frozen_at(MOMENT + datetime.timedelta(days=1)):
-        made.append(reports.report_reissue(actor=cast.reviewer, report=made[0],
-                                           password=PASSWORD, username="rev",
-                                           change_description="address corrected"))
+        made.append(
+            reports.report_reissue(
+                actor=cast.reviewer,
+                report=made[0],
+                password=PASSWORD,
+                username="rev",
+                change_description="address corrected",
+            )
+        )
     return made
 
 

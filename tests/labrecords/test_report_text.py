@@ -12,33 +12,59 @@ def test_unit_endings_become_units():
     assert label_and_unit("temperature_c") == ("temperature", "°C")
     assert label_and_unit("force_n") == ("force", "N")
     assert label_and_unit("crosshatch_class") == ("crosshatch class", "")
-    assert values_lines({"force_n": 4.5, "strokes": 50, "offset_nm": Decimal("-1.20"),
-                         "angle_deg": 45}) == (
-        "force: 4.5 N", "strokes: 50", "offset: -1.20 nm", "angle: 45°")
+    assert values_lines(
+        {"force_n": 4.5, "strokes": 50, "offset_nm": Decimal("-1.20"), "angle_deg": 45}
+    ) == ("force: 4.5 N", "strokes: 50", "offset: -1.20 nm", "angle: 45°")
 
 
 def test_bench_entries_read_as_sentences():
-    lines = values_lines({
-        "inspection": {"no_defects": False, "defects": [
-            {"defect": "stain_discoloration", "zone": "edge", "extent": "about 1 mm",
-             "quantity": 1, "size": 1}], "lighting": "dark field", "magnification": "10x"},
-        "comparison": {"new_defects": ["stain discoloration"], "worsened": [],
-                       "convention": "long text that the report states once elsewhere"},
-        "spectral": [{"band_nm": [400.0, 700.0], "quantity": "R", "statistic": "average",
-                      "value": 0.3, "unit": "%", "expanded_uncertainty": 0.05}],
-        "coating_removed": False, "removal_location": "",
-    })
+    lines = values_lines(
+        {
+            "inspection": {
+                "no_defects": False,
+                "defects": [
+                    {
+                        "defect": "stain_discoloration",
+                        "zone": "edge",
+                        "extent": "about 1 mm",
+                        "quantity": 1,
+                        "size": 1,
+                    }
+                ],
+                "lighting": "dark field",
+                "magnification": "10x",
+            },
+            "comparison": {
+                "new_defects": ["stain discoloration"],
+                "worsened": [],
+                "convention": "long text that the report states once elsewhere",
+            },
+            "spectral": [
+                {
+                    "band_nm": [400.0, 700.0],
+                    "quantity": "R",
+                    "statistic": "average",
+                    "value": 0.3,
+                    "unit": "%",
+                    "expanded_uncertainty": 0.05,
+                }
+            ],
+            "coating_removed": False,
+            "removal_location": "",
+        }
+    )
     assert lines == (
-        "inspection: stain discoloration (edge, about 1 mm) [quantity 1, size 1] "
-        "(dark field, 10x)",
+        "inspection: stain discoloration (edge, about 1 mm) [quantity 1, size 1] (dark field, 10x)",
         "new: stain discoloration",
         "R average 400-700 nm: 0.3 % (U = 0.05 %)",
         "coating removed: no",
     )
-    assert values_lines({"inspection": {"no_defects": True}, "comparison": {
-        "new_defects": [], "worsened": []}}) == (
+    assert values_lines(
+        {"inspection": {"no_defects": True}, "comparison": {"new_defects": [], "worsened": []}}
+    ) == (
         "inspection: no defects observed",
-        "no new or worsened defects against the initial inspection")
+        "no new or worsened defects against the initial inspection",
+    )
 
 
 def test_moments_carry_their_zone_and_offset():

@@ -25,8 +25,16 @@ from tests.labrecords.report_fixtures import MOMENT, PASSWORD, finished_lot
 pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
 
 CHROMIUM = Path("/usr/bin/chromium")
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+ARGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
 SHOTS = Path(__file__).resolve().parents[2] / "artifacts" / "screenshots"
 ON_CI = os.environ.get("CI", "").lower() in ("1", "true", "yes")
 
@@ -44,8 +52,9 @@ def browser():
     from playwright.sync_api import sync_playwright
 
     with sync_playwright() as playwright:
-        browser = playwright.chromium.launch(executable_path=str(CHROMIUM), args=ARGS,
-                                             headless=True)
+        browser = playwright.chromium.launch(
+            executable_path=str(CHROMIUM), args=ARGS, headless=True
+        )
         yield browser
         browser.close()
 
@@ -88,7 +97,8 @@ def png_bytes() -> bytes:
 
 
 def test_a_technician_scans_a_piece_and_logs_a_crosshatch_result_with_a_photo(
-        page, live_server, cast, tmp_path):
+    page, live_server, cast, tmp_path
+):
     bench = bench_setup(cast, callouts="ISO 2409 class 1 max")
     crosshatch = next(step for step in bench.steps if step.kind == "crosshatch")
     record_through(bench, crosshatch.order - 1)
@@ -112,8 +122,12 @@ def test_a_technician_scans_a_piece_and_logs_a_crosshatch_result_with_a_photo(
 
     result = StepResult.objects.get(piece=bench.piece, step_key=crosshatch.step_key)
     assert result.recorded_by == cast.technician and result.verdict == "pass"
-    assert Evidence.objects.filter(piece=bench.piece, step_key=crosshatch.step_key,
-                                   kind="photo").count() == 1
+    assert (
+        Evidence.objects.filter(
+            piece=bench.piece, step_key=crosshatch.step_key, kind="photo"
+        ).count()
+        == 1
+    )
 
 
 def test_an_engineer_sees_the_lot_move_in_waiting_work(page, live_server, cast):
@@ -159,16 +173,17 @@ def test_a_reviewer_signs_the_review_and_issues_the_report(page, live_server, ca
     assert report.review.reviewer == cast.reviewer
 
 
-def test_the_customer_downloads_its_pdf_and_is_refused_another_customers(
-        page, live_server, cast):
+def test_the_customer_downloads_its_pdf_and_is_refused_another_customers(page, live_server, cast):
     issued = []
     for customer in (cast.customer_org, cast.other_org):
         lot = finished_lot(cast, customer=customer)
         with clock.frozen_at(MOMENT + datetime.timedelta(hours=3)):
-            reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                                username="rev")
-            issued.append(reports.report_issue(actor=cast.reviewer, lot=lot,
-                                               password=PASSWORD, username="rev"))
+            reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
+            issued.append(
+                reports.report_issue(
+                    actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev"
+                )
+            )
     own, other = issued
     sign_in(page, live_server, "cust")
     page.goto(f"{live_server.url}/reports/")

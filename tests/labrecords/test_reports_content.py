@@ -35,8 +35,9 @@ def media(settings, tmp_path):
 
 
 def words(data: bytes) -> str:
-    return " ".join(" ".join(page.extract_text().split())
-                    for page in PdfReader(io.BytesIO(data)).pages)
+    return " ".join(
+        " ".join(page.extract_text().split()) for page in PdfReader(io.BytesIO(data)).pages
+    )
 
 
 def test_a_lot_recorded_at_the_bench_is_reviewed_and_issued(cast):
@@ -52,33 +53,52 @@ def test_a_lot_recorded_at_the_bench_is_reviewed_and_issued(cast):
     # reviewer is on none of them and may not review.
     with pytest.raises(Exception, match="not on the authorisation list"):
         reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
-    reviewer = UserFactory(username="rev-eng", first_name="Rhea", last_name="Invented",
-                           roles=["reviewer", "engineer"])
+    reviewer = UserFactory(
+        username="rev-eng", first_name="Rhea", last_name="Invented", roles=["reviewer", "engineer"]
+    )
     with clock.frozen_at(NOW):
-        for method in Method.objects.filter(pk__in=[s.method_version.method_id
-                                                   for s in bench.steps]):
-            authorisations.method_authorisation_grant(actor=cast.quality_manager,
-                                                      user=reviewer, method=method)
+        for method in Method.objects.filter(
+            pk__in=[s.method_version.method_id for s in bench.steps]
+        ):
+            authorisations.method_authorisation_grant(
+                actor=cast.quality_manager, user=reviewer, method=method
+            )
     later = NOW + datetime.timedelta(hours=1)
     with clock.frozen_at(later):
         reviews.review_sign(actor=reviewer, lot=lot, password=PASSWORD, username="rev-eng")
     run = ChamberRun.objects.get(results__piece__lot=lot)
-    with pytest.raises(reports.ReportNotReady,
-                       match=f"a checked chamber log for run {run.ident}"):
+    with pytest.raises(reports.ReportNotReady, match=f"a checked chamber log for run {run.ident}"):
         with clock.frozen_at(later):
-            reports.report_issue(actor=reviewer, lot=lot, password=PASSWORD,
-                                 first_in_session=False)
-    log = Evidence(kind="chamber_log", chamber_run=run, file="evidence/00/log", sha256="0" * 64,
-                   original_name="log.csv", content_type="text/csv", size=1,
-                   uploaded_by=cast.technician, uploaded_at=later)
+            reports.report_issue(actor=reviewer, lot=lot, password=PASSWORD, first_in_session=False)
+    log = Evidence(
+        kind="chamber_log",
+        chamber_run=run,
+        file="evidence/00/log",
+        sha256="0" * 64,
+        original_name="log.csv",
+        content_type="text/csv",
+        size=1,
+        uploaded_by=cast.technician,
+        uploaded_at=later,
+    )
     log.save()
-    ExposureCheck(run=run, evidence=log, counts=True, convention="interpolated",
-                  summary={"in_tolerance_hours": 24.3, "required_hours": 24.0,
-                           "convention_text": "linear interpolation between readings"},
-                  checked_by=cast.technician, checked_at=later).save()
+    ExposureCheck(
+        run=run,
+        evidence=log,
+        counts=True,
+        convention="interpolated",
+        summary={
+            "in_tolerance_hours": 24.3,
+            "required_hours": 24.0,
+            "convention_text": "linear interpolation between readings",
+        },
+        checked_by=cast.technician,
+        checked_at=later,
+    ).save()
     with clock.frozen_at(later + datetime.timedelta(minutes=5)):
-        report = reports.report_issue(actor=reviewer, lot=lot, password=PASSWORD,
-                                      first_in_session=False)
+        report = reports.report_issue(
+            actor=reviewer, lot=lot, password=PASSWORD, first_in_session=False
+        )
     with report.pdf.open("rb") as handle:
         text = words(handle.read())
     assert "24.30 h of 24 h required; counts" in text
@@ -111,10 +131,20 @@ def test_spectra_before_and_after_are_drawn_with_the_limit(cast):
     for stage, offset in (("before", 0.0), ("after", 0.05)):
         data = spectrum_csv(offset)
         name, digest = store_bytes(data)
-        Evidence(kind="spectrum", lot=lot, piece=piece, stage=stage, file=name, sha256=digest,
-                 original_name=f"{stage}.csv", content_type="text/plain", size=len(data),
-                 summary={"import": {"options": {"quantity": "R"}}},
-                 uploaded_by=cast.technician, uploaded_at=NOW).save()
+        Evidence(
+            kind="spectrum",
+            lot=lot,
+            piece=piece,
+            stage=stage,
+            file=name,
+            sha256=digest,
+            original_name=f"{stage}.csv",
+            content_type="text/plain",
+            size=len(data),
+            summary={"import": {"options": {"quantity": "R"}}},
+            uploaded_by=cast.technician,
+            uploaded_at=NOW,
+        ).save()
     content = reports.draft_content(lot)
     (plot,) = content.spectra
     assert plot.quantity == "R" and len(plot.before) == len(plot.after) == 85
@@ -131,8 +161,10 @@ def test_a_failed_result_makes_the_statement_say_it_does_not_conform(cast):
     lot = finished_lot(cast, fail_one=True)
     conformity = reports.draft_content(lot).conformity
     assert not conformity.conforms
-    assert f"Lot {lot.number} does NOT conform to coating spec {lot.spec.part_number}" in \
-        conformity.statement
+    assert (
+        f"Lot {lot.number} does NOT conform to coating spec {lot.spec.part_number}"
+        in conformity.statement
+    )
     (failing,) = conformity.failing
     assert failing.startswith("piece ")
     # The rule's words come from the verdict code (ILAC-G8 simple acceptance, [mem] there).
@@ -148,12 +180,13 @@ def test_a_guard_band_order_says_so_and_needs_the_uncertainty(cast):
     assert conformity.decision_rule == "Guarded acceptance (guard band = expanded uncertainty)"
     assert "guarded acceptance" in conformity.decision_rule_text.lower()
     _review, missing = reports.report_missing_items(lot)
-    spectral = [row for row in lot_results(lot).planned if row.step.kind ==
-                "spectral_measurement"]
+    spectral = [row for row in lot_results(lot).planned if row.step.kind == "spectral_measurement"]
     assert spectral
     for row in spectral:
-        assert f"the measurement uncertainty for {row.where} (the order's decision rule is a " \
-               "guard band)" in missing
+        assert (
+            f"the measurement uncertainty for {row.where} (the order's decision rule is a "
+            "guard band)" in missing
+        )
 
 
 def test_methods_state_standard_edition_clause_version_and_deviations(cast):
@@ -163,8 +196,7 @@ def test_methods_state_standard_edition_clause_version_and_deviations(cast):
     lot.spec.save()
     draft = plans.plan_draft_create(actor=cast.engineer, lot=lot)
     humidity = draft.steps.get(kind="humidity")
-    plans.plan_step_update(actor=cast.engineer, step=humidity,
-                           parameters={"duration_h": 48})
+    plans.plan_step_update(actor=cast.engineer, step=humidity, parameters={"duration_h": 48})
     for _ in range(sum(s.pieces_needed for s in draft.sequences.all())):
         WitnessPieceFactory(lot=lot, glass=lot.spec.glass)
     plans.plan_pieces_assign(actor=cast.engineer, plan=draft)
@@ -175,8 +207,7 @@ def test_methods_state_standard_edition_clause_version_and_deviations(cast):
     assert line.standard == "MIL-C-48497A"
     assert line.edition == version.method.standard.edition
     assert line.version == version.number
-    assert "duration 48 h, set in the test plan instead of the method's value" in \
-        line.deviations
+    assert "duration 48 h, set in the test plan instead of the method's value" in line.deviations
     assert methods["MIL-C-48497A:adhesion"].deviations == ("none",)
 
 
@@ -188,8 +219,12 @@ def test_the_lab_profile_names_the_lab_and_its_accreditation(cast, settings):
     _review, missing = reports.report_missing_items(lot)
     assert "the lab's address (record the lab profile, or set LAB_ADDRESS)" in missing
     with clock.frozen_at(NOW):
-        lab_profile_set(actor=cast.administrator, name="Invented Film Test Lab",
-                        address="3 Imaginary Quay, Nowhere", accreditation="invented no. 0001")
+        lab_profile_set(
+            actor=cast.administrator,
+            name="Invented Film Test Lab",
+            address="3 Imaginary Quay, Nowhere",
+            accreditation="invented no. 0001",
+        )
     _review, missing = reports.report_missing_items(lot)
     assert not any("lab's" in item for item in missing)
     text = words(render_report(reports.draft_content(lot)))

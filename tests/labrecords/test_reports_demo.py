@@ -42,32 +42,58 @@ def demo_lab() -> DemoLab:
         customer_services.roles_ensure()
         admin = None
         for username, full_name, role, password in sorted(
-                scenario.STAFF, key=lambda row: row[2] != Role.ADMINISTRATOR):
-            user = customer_services.user_create(actor=admin, username=username,
-                                                 password=password, full_name=full_name,
-                                                 roles=[Role(role)])
+            scenario.STAFF, key=lambda row: row[2] != Role.ADMINISTRATOR
+        ):
+            user = customer_services.user_create(
+                actor=admin,
+                username=username,
+                password=password,
+                full_name=full_name,
+                roles=[Role(role)],
+            )
             admin = admin or user
             lab.staff[Role(role)] = user
-    people = SimpleNamespace(technician=lab.staff[Role.TECHNICIAN],
-                             engineer=lab.staff[Role.ENGINEER],
-                             quality_manager=lab.staff[Role.QUALITY_MANAGER])
-    customer = CustomerFactory(name="Invented Heron Optics", code="IHO",
-                               contact_name="Nell Invented", address="4 Nowhere Row")
+    people = SimpleNamespace(
+        technician=lab.staff[Role.TECHNICIAN],
+        engineer=lab.staff[Role.ENGINEER],
+        quality_manager=lab.staff[Role.QUALITY_MANAGER],
+    )
+    customer = CustomerFactory(
+        name="Invented Heron Optics",
+        code="IHO",
+        contact_name="Nell Invented",
+        address="4 Nowhere Row",
+    )
     for index in range(4):
-        lot = LotFactory(order=OrderFactory(customer=customer),
-                         received_on=datetime.date(2026, 11, 2))
+        lot = LotFactory(
+            order=OrderFactory(customer=customer), received_on=datetime.date(2026, 11, 2)
+        )
         bench = bench_setup(people, lot=lot)
         last = max(step.order for step in bench.steps)
         record_through(bench, last if index < 3 else 2)
         lab.lots.append(lot)
         for run in ChamberRun.objects.filter(results__piece__lot=lot).distinct():
-            log = Evidence(kind="chamber_log", chamber_run=run, file="evidence/00/log",
-                           sha256="0" * 64, original_name="log.csv", content_type="text/csv",
-                           size=1, uploaded_by=people.technician, uploaded_at=NOW)
+            log = Evidence(
+                kind="chamber_log",
+                chamber_run=run,
+                file="evidence/00/log",
+                sha256="0" * 64,
+                original_name="log.csv",
+                content_type="text/csv",
+                size=1,
+                uploaded_by=people.technician,
+                uploaded_at=NOW,
+            )
             log.save()
-            ExposureCheck(run=run, evidence=log, counts=True, convention="interpolated",
-                          summary={"in_tolerance_hours": 24.2, "required_hours": 24.0},
-                          checked_by=people.technician, checked_at=NOW).save()
+            ExposureCheck(
+                run=run,
+                evidence=log,
+                counts=True,
+                convention="interpolated",
+                summary={"in_tolerance_hours": 24.2, "required_hours": 24.0},
+                checked_by=people.technician,
+                checked_at=NOW,
+            ).save()
     return lab
 
 
@@ -76,8 +102,9 @@ def test_the_demo_issues_reports_an_amendment_and_a_reissue():
     done = issue_demo_reports(lab, now=NOW + datetime.timedelta(days=10))
     assert len(done.issued) == 3
     assert done.skipped == {lab.lots[3].number: done.skipped[lab.lots[3].number]}
-    assert done.skipped[lab.lots[3].number].startswith("results not complete: missing a "
-                                                       "result for piece")
+    assert done.skipped[lab.lots[3].number].startswith(
+        "results not complete: missing a result for piece"
+    )
     amendment = Report.objects.get(number=done.amendment)
     assert amendment.kind == ReportKind.AMENDMENT
     assert amendment.amends.number == done.issued[0]
@@ -95,8 +122,7 @@ def test_the_demo_issues_reports_an_amendment_and_a_reissue():
         assert report.issued_at > report.review.reviewed_at
     corrections = StepResult.objects.filter(number=2)
     assert corrections.count() == 2
-    assert all("10x loupe" in c.reason and c.verdict == c.supersedes.verdict
-               for c in corrections)
+    assert all("10x loupe" in c.reason and c.verdict == c.supersedes.verdict for c in corrections)
     for lot in lab.lots[:3]:
         lot.refresh_from_db()
         assert lot.stage == LotStage.REPORT_ISSUED

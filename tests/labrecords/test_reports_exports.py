@@ -36,11 +36,21 @@ def lot(cast):
     lot = finished_lot(cast)
     first = StepResult.objects.current().filter(piece__lot=lot).order_by("id").first()
     with clock.frozen_at(MOMENT + datetime.timedelta(minutes=30)):
-        StepResult(record_key=first.record_key, number=2, supersedes=first, step=first.step,
-                   step_key=first.step_key, piece=first.piece, values=NASTY, verdict="pass",
-                   verdict_reason="-not a formula, a reason", recorded_by=cast.technician,
-                   recorded_at=clock.now(), observed_at=first.observed_at,
-                   reason="values re-entered").save()
+        StepResult(
+            record_key=first.record_key,
+            number=2,
+            supersedes=first,
+            step=first.step,
+            step_key=first.step_key,
+            piece=first.piece,
+            values=NASTY,
+            verdict="pass",
+            verdict_reason="-not a formula, a reason",
+            recorded_by=cast.technician,
+            recorded_at=clock.now(),
+            observed_at=first.observed_at,
+            reason="values re-entered",
+        ).save()
     return lot
 
 
@@ -50,13 +60,13 @@ def csv_rows(content: bytes) -> list[dict[str, str]]:
     return list(csv.DictReader(io.StringIO(text[1:], newline="")))
 
 
-def test_csv_cells_that_look_like_formulas_are_escaped_and_numbers_stay_numbers(client, cast,
-                                                                                lot):
+def test_csv_cells_that_look_like_formulas_are_escaped_and_numbers_stay_numbers(client, cast, lot):
     client.force_login(cast.engineer)
     response = client.get(f"/orders/{lot.order.pk}/results.csv")
     assert response.status_code == 200
-    assert response["Content-Disposition"] == \
-        f'attachment; filename="{lot.order.number}-results.csv"'
+    assert (
+        response["Content-Disposition"] == f'attachment; filename="{lot.order.number}-results.csv"'
+    )
     rows = csv_rows(response.content)
     row = next(r for r in rows if r["revision"] == "2")
     # OWASP CSV injection: a leading quote keeps = + - @ tab CR as text
@@ -100,19 +110,30 @@ def test_a_customer_gets_only_results_an_issued_report_stated(client, cast, lot)
     assert before == []  # nothing is issued yet
     with clock.frozen_at(MOMENT + datetime.timedelta(hours=3)):
         reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
-        report = reports.report_issue(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                                      username="rev")
+        report = reports.report_issue(
+            actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev"
+        )
     rows = csv_rows(client.get(f"/orders/{lot.order.pk}/results.csv").content)
     assert {r["report"] for r in rows} == {report.number}
     assert len(rows) == StepResult.objects.current().filter(piece__lot=lot).count()
     # A correction after issue is not shown to the customer until a report states it.
     result = StepResult.objects.current().filter(piece__lot=lot).order_by("-id").first()
     with clock.frozen_at(MOMENT + datetime.timedelta(hours=4)):
-        StepResult(record_key=result.record_key, number=result.number + 1, supersedes=result,
-                   step=result.step, step_key=result.step_key, piece=result.piece,
-                   values={"note": "corrected"}, verdict="fail", verdict_reason="re-read",
-                   recorded_by=cast.technician, recorded_at=clock.now(),
-                   observed_at=result.observed_at, reason="re-read the grade").save()
+        StepResult(
+            record_key=result.record_key,
+            number=result.number + 1,
+            supersedes=result,
+            step=result.step,
+            step_key=result.step_key,
+            piece=result.piece,
+            values={"note": "corrected"},
+            verdict="fail",
+            verdict_reason="re-read",
+            recorded_by=cast.technician,
+            recorded_at=clock.now(),
+            observed_at=result.observed_at,
+            reason="re-read the grade",
+        ).save()
     rows = csv_rows(client.get(f"/orders/{lot.order.pk}/results.csv").content)
     assert "corrected" not in str(rows) and {r["verdict"] for r in rows} == {"pass"}
 

@@ -83,8 +83,9 @@ def test_the_same_content_gives_the_same_bytes():
 
 
 def test_an_amendment_is_titled_as_one_and_ends_as_one():
-    data = render_report(synthetic_content(pieces=2, steps=2, plots=0, kind="amendment",
-                                           number="R26-0041-A1"))
+    data = render_report(
+        synthetic_content(pieces=2, steps=2, plots=0, kind="amendment", number="R26-0041-A1")
+    )
     texts = pages_text(data)
     joined = " ".join(" ".join(t.split()) for t in texts)
     assert "Amends report R26-0041" in joined and "A value was corrected." in joined
@@ -102,8 +103,11 @@ def test_a_rendered_page_is_not_blank(tmp_path, long_report):
 
     path = tmp_path / "report.pdf"
     path.write_bytes(long_report)
-    subprocess.run(["pdftoppm", "-r", "40", "-png", "-f", "1", "-l", "2", str(path),
-                    str(tmp_path / "page")], check=True, timeout=60)
+    subprocess.run(
+        ["pdftoppm", "-r", "40", "-png", "-f", "1", "-l", "2", str(path), str(tmp_path / "page")],
+        check=True,
+        timeout=60,
+    )
     images = sorted(tmp_path.glob("page-*.png"))
     assert len(images) == 2
     for image_path in images:

@@ -39,14 +39,22 @@ def media(settings, tmp_path):
 
 def sign(cast, lot, *, at=LATER, actor=None):
     with clock.frozen_at(at):
-        return reviews.review_sign(actor=actor or cast.reviewer, lot=lot, password=PASSWORD,
-                                   username=(actor or cast.reviewer).username)
+        return reviews.review_sign(
+            actor=actor or cast.reviewer,
+            lot=lot,
+            password=PASSWORD,
+            username=(actor or cast.reviewer).username,
+        )
 
 
 def issue(cast, lot, *, at=LATER + datetime.timedelta(hours=1), actor=None):
     with clock.frozen_at(at):
-        return reports.report_issue(actor=actor or cast.reviewer, lot=lot, password=PASSWORD,
-                                    username=(actor or cast.reviewer).username)
+        return reports.report_issue(
+            actor=actor or cast.reviewer,
+            lot=lot,
+            password=PASSWORD,
+            username=(actor or cast.reviewer).username,
+        )
 
 
 def stored_bytes(report: Report) -> bytes:
@@ -60,10 +68,11 @@ def stored_bytes(report: Report) -> bytes:
 def test_a_review_covers_the_exact_current_revisions_and_signs_with_meaning(cast, settings):
     lot = finished_lot(cast)
     review = sign(cast, lot)
-    current = set(StepResult.objects.current().filter(piece__lot=lot).values_list("pk",
-                                                                                   flat=True))
-    assert set(ReviewedResult.objects.filter(review=review).values_list("result_id",
-                                                                        flat=True)) == current
+    current = set(StepResult.objects.current().filter(piece__lot=lot).values_list("pk", flat=True))
+    assert (
+        set(ReviewedResult.objects.filter(review=review).values_list("result_id", flat=True))
+        == current
+    )
     signature = Signature.objects.get(review=review)
     # 21 CFR 11.50: printed name, date and time, meaning (records-and-security.md [mem]).
     assert signature.printed_name == cast.reviewer.get_full_name()
@@ -79,8 +88,7 @@ def test_a_review_is_refused_while_a_result_is_missing_and_names_it(cast):
     first = lot_results(lot).planned[0]
     with pytest.raises(ValidationError) as refused:
         reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
-    assert f"Cannot sign the review: missing a result for {first.where}." in \
-        refused.value.messages
+    assert f"Cannot sign the review: missing a result for {first.where}." in refused.value.messages
     assert not lot.reviews.exists()
 
 
@@ -106,24 +114,33 @@ def test_who_did_the_work_cannot_review_it(cast):
 def test_a_method_with_an_authorisation_list_needs_the_reviewer_on_it(cast):
     lot = finished_lot(cast)
     method = Method.objects.get(code="MIL-C-48497A:humidity")
-    MethodAuthorisation.objects.create(user=cast.quality_manager, method=method,
-                                       granted_by=cast.administrator, granted_at=MOMENT)
-    with pytest.raises(ValidationError, match="not on the authorisation list for method "
-                                              "MIL-C-48497A:humidity"):
+    MethodAuthorisation.objects.create(
+        user=cast.quality_manager, method=method, granted_by=cast.administrator, granted_at=MOMENT
+    )
+    with pytest.raises(
+        ValidationError, match="not on the authorisation list for method MIL-C-48497A:humidity"
+    ):
         sign(cast, lot)
-    MethodAuthorisation.objects.create(user=cast.reviewer, method=method,
-                                       granted_by=cast.administrator, granted_at=MOMENT)
+    MethodAuthorisation.objects.create(
+        user=cast.reviewer, method=method, granted_by=cast.administrator, granted_at=MOMENT
+    )
     assert sign(cast, lot).reviewer == cast.reviewer
 
 
 def test_a_revoked_authorisation_does_not_count(cast):
     lot = finished_lot(cast)
     method = Method.objects.get(code="MIL-C-48497A:humidity")
-    MethodAuthorisation.objects.create(user=cast.reviewer, method=method,
-                                       granted_by=cast.administrator, granted_at=MOMENT,
-                                       revoked_by=cast.administrator, revoked_at=MOMENT)
-    MethodAuthorisation.objects.create(user=cast.quality_manager, method=method,
-                                       granted_by=cast.administrator, granted_at=MOMENT)
+    MethodAuthorisation.objects.create(
+        user=cast.reviewer,
+        method=method,
+        granted_by=cast.administrator,
+        granted_at=MOMENT,
+        revoked_by=cast.administrator,
+        revoked_at=MOMENT,
+    )
+    MethodAuthorisation.objects.create(
+        user=cast.quality_manager, method=method, granted_by=cast.administrator, granted_at=MOMENT
+    )
     with pytest.raises(ValidationError, match="authorisation list"):
         sign(cast, lot)
 
@@ -140,8 +157,9 @@ def test_only_the_reviewer_role_reviews(cast):
 def test_signing_needs_the_password_and_a_refusal_is_audited(cast):
     lot = finished_lot(cast)
     with pytest.raises(ValidationError) as refused:
-        reviews.review_sign(actor=cast.reviewer, lot=lot, password="not my password",
-                            username="rev")
+        reviews.review_sign(
+            actor=cast.reviewer, lot=lot, password="not my password", username="rev"
+        )
     assert refused.value.message_dict == {"password": [reviews.WRONG_CREDENTIALS]}
     assert not lot.reviews.exists()
     entry = AuditEntry.objects.get(action="signing refused")
@@ -153,15 +171,22 @@ def test_signing_needs_the_password_and_a_refusal_is_audited(cast):
 def test_the_first_signing_in_a_session_needs_the_user_name_later_ones_the_password(cast):
     lot = finished_lot(cast)
     with pytest.raises(ValidationError) as refused:
-        reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="",
-                            first_in_session=True)
+        reviews.review_sign(
+            actor=cast.reviewer, lot=lot, password=PASSWORD, username="", first_in_session=True
+        )
     assert "username" in refused.value.message_dict
     with pytest.raises(ValidationError, match="not correct"):
-        reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                            username="someone-else", first_in_session=True)
+        reviews.review_sign(
+            actor=cast.reviewer,
+            lot=lot,
+            password=PASSWORD,
+            username="someone-else",
+            first_in_session=True,
+        )
     with clock.frozen_at(LATER):
-        review = reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                                     username=None, first_in_session=False)
+        review = reviews.review_sign(
+            actor=cast.reviewer, lot=lot, password=PASSWORD, username=None, first_in_session=False
+        )
     assert review.pk
     with pytest.raises(ValidationError, match="not correct"):
         reports.report_issue(actor=cast.reviewer, lot=lot, password="", first_in_session=False)
@@ -217,8 +242,11 @@ def test_issue_stores_the_pdf_and_its_digest_and_freezes_the_row(cast):
     lot.refresh_from_db()
     assert lot.stage == LotStage.REPORT_ISSUED
     # Frozen in the database too (labrecords.immutability): no UPDATE gets through.
-    with pytest.raises((DatabaseError, IntegrityError), match="append-only"), \
-            transaction.atomic(), connection.cursor() as cursor:
+    with (
+        pytest.raises((DatabaseError, IntegrityError), match="append-only"),
+        transaction.atomic(),
+        connection.cursor() as cursor,
+    ):
         cursor.execute("UPDATE labrecords_report SET sha256 = 'x' WHERE id = %s", [report.pk])
 
 
@@ -249,15 +277,22 @@ def test_issue_is_refused_naming_each_missing_item(cast, settings):
     assert "the lab's address (record the lab profile, or set LAB_ADDRESS)" in items
     assert f"the date the witness pieces of lot {lot.number} were received" in items
     assert "a signed review of the results" in items
-    assert ("Cannot issue the report: missing the lab's address (record the lab profile, or "
-            "set LAB_ADDRESS).") in refused.value.messages
+    assert (
+        "Cannot issue the report: missing the lab's address (record the lab profile, or "
+        "set LAB_ADDRESS)."
+    ) in refused.value.messages
 
 
 def test_an_open_nonconformance_withholds_the_report(cast):
     lot = finished_lot(cast)
     sign(cast, lot)
-    Nonconformance.objects.create(number="NC-26-001", kind="coating_failure", lot=lot,
-                                  description="haze after humidity", opened_at=MOMENT)
+    Nonconformance.objects.create(
+        number="NC-26-001",
+        kind="coating_failure",
+        lot=lot,
+        description="haze after humidity",
+        opened_at=MOMENT,
+    )
     with pytest.raises(reports.ReportNotReady, match="disposition for nonconformance NC-26-001"):
         issue(cast, lot)
 
@@ -312,13 +347,21 @@ def test_an_amendment_says_what_changed_and_leaves_the_original_untouched(cast):
     before = stored_bytes(original)
     result = ReviewedResult.objects.filter(review=original.review).first().result
     with clock.frozen_at(LATER + datetime.timedelta(days=1)):
-        correct(result, by=cast.technician, reason="transcription error in the grade",
-                values={"note": "grade corrected"})
+        correct(
+            result,
+            by=cast.technician,
+            reason="transcription error in the grade",
+            values={"note": "grade corrected"},
+        )
     sign(cast, lot, at=LATER + datetime.timedelta(days=1, hours=1))
     with clock.frozen_at(LATER + datetime.timedelta(days=1, hours=2)):
         amendment = reports.report_amend(
-            actor=cast.reviewer, report=original, password=PASSWORD, username="rev",
-            change_description="Result corrected after a transcription error.")
+            actor=cast.reviewer,
+            report=original,
+            password=PASSWORD,
+            username="rev",
+            change_description="Result corrected after a transcription error.",
+        )
     assert amendment.kind == ReportKind.AMENDMENT and amendment.amends == original
     assert amendment.number == f"{original.number}-A1"
     original.refresh_from_db()
@@ -337,8 +380,12 @@ def test_a_reissue_gets_a_new_number_and_the_replaced_report_stays_superseded(ca
     original_bytes = stored_bytes(original)
     with clock.frozen_at(LATER + datetime.timedelta(days=2)):
         reissue = reports.report_reissue(
-            actor=cast.reviewer, report=original, password=PASSWORD, username="rev",
-            change_description="Customer address corrected.")
+            actor=cast.reviewer,
+            report=original,
+            password=PASSWORD,
+            username="rev",
+            change_description="Customer address corrected.",
+        )
     assert reissue.kind == ReportKind.REISSUE and reissue.replaces == original
     assert reissue.number != original.number and re.fullmatch(r"R26-\d{4}", reissue.number)
     original.refresh_from_db()
@@ -347,11 +394,21 @@ def test_a_reissue_gets_a_new_number_and_the_replaced_report_stays_superseded(ca
     text = _text(stored_bytes(reissue))
     assert f"replaces report {original.number}" in text
     with pytest.raises(ValidationError, match=f"replaced by {reissue.number}"):
-        reports.report_amend(actor=cast.reviewer, report=original, password=PASSWORD,
-                             username="rev", change_description="x")
+        reports.report_amend(
+            actor=cast.reviewer,
+            report=original,
+            password=PASSWORD,
+            username="rev",
+            change_description="x",
+        )
     with pytest.raises(ValidationError, match=f"replaced by {reissue.number}"):
-        reports.report_reissue(actor=cast.reviewer, report=original, password=PASSWORD,
-                               username="rev", change_description="again")
+        reports.report_reissue(
+            actor=cast.reviewer,
+            report=original,
+            password=PASSWORD,
+            username="rev",
+            change_description="again",
+        )
 
 
 def test_a_correction_needs_a_description(cast):
@@ -359,8 +416,13 @@ def test_a_correction_needs_a_description(cast):
     sign(cast, lot)
     original = issue(cast, lot)
     with pytest.raises(ValidationError, match="what changed and why"):
-        reports.report_amend(actor=cast.reviewer, report=original, password=PASSWORD,
-                             username="rev", change_description="  ")
+        reports.report_amend(
+            actor=cast.reviewer,
+            report=original,
+            password=PASSWORD,
+            username="rev",
+            change_description="  ",
+        )
 
 
 def test_results_from_an_outside_provider_need_their_report_and_are_marked(cast):
@@ -368,24 +430,42 @@ def test_results_from_an_outside_provider_need_their_report_and_are_marked(cast)
     row = lot_results(lot).planned[-1]
     with clock.frozen_at(MOMENT + datetime.timedelta(minutes=40)):
         external = StepResult(
-            record_key=row.result.record_key, number=2, supersedes=row.result, step=row.step,
-            step_key=row.step.step_key, piece=row.piece, values={"note": "see their report"},
-            verdict="pass", verdict_reason="pass per the provider's report",
-            recorded_by=cast.technician, recorded_at=clock.now(), observed_at=clock.now(),
-            reason="measured by an outside provider", external_provider="Invented Test House",
-            external_report_ref="ITH-2026-0412", external_accreditation="invented accreditor "
-                                                                        "no. 0000")
+            record_key=row.result.record_key,
+            number=2,
+            supersedes=row.result,
+            step=row.step,
+            step_key=row.step.step_key,
+            piece=row.piece,
+            values={"note": "see their report"},
+            verdict="pass",
+            verdict_reason="pass per the provider's report",
+            recorded_by=cast.technician,
+            recorded_at=clock.now(),
+            observed_at=clock.now(),
+            reason="measured by an outside provider",
+            external_provider="Invented Test House",
+            external_report_ref="ITH-2026-0412",
+            external_accreditation="invented accreditor no. 0000",
+        )
         external.save()
     sign(cast, lot, at=LATER)
     with pytest.raises(reports.ReportNotReady, match="outside provider's report"):
         issue(cast, lot)
     from labrecords.models import Evidence
 
-    evidence = Evidence(kind="provider_report", lot=lot, piece=row.piece,
-                        step_key=row.step.step_key, file="evidence/00/provider.pdf",
-                        sha256="0" * 64, original_name="ITH-2026-0412.pdf",
-                        content_type="application/pdf", size=10, uploaded_by=cast.technician,
-                        uploaded_at=MOMENT)
+    evidence = Evidence(
+        kind="provider_report",
+        lot=lot,
+        piece=row.piece,
+        step_key=row.step.step_key,
+        file="evidence/00/provider.pdf",
+        sha256="0" * 64,
+        original_name="ITH-2026-0412.pdf",
+        content_type="application/pdf",
+        size=10,
+        uploaded_by=cast.technician,
+        uploaded_at=MOMENT,
+    )
     evidence.save()
     text = _text(stored_bytes(issue(cast, lot)))
     assert "Invented Test House" in text and "ITH-2026-0412" in text
@@ -398,5 +478,6 @@ def _text(data: bytes) -> str:
     from pypdf import PdfReader
 
     # Words only: table cells wrap their text over lines.
-    return " ".join(" ".join(page.extract_text().split())
-                    for page in PdfReader(io.BytesIO(data)).pages)
+    return " ".join(
+        " ".join(page.extract_text().split()) for page in PdfReader(io.BytesIO(data)).pages
+    )

@@ -27,13 +27,14 @@ def report(cast):
     lot = finished_lot(cast)
     with clock.frozen_at(MOMENT + datetime.timedelta(hours=3)):
         reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
-        return reports.report_issue(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                                    username="rev")
+        return reports.report_issue(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
 
 
 def test_the_qr_link_confirms_number_date_and_digest_without_login(client, report):
-    assert reports.verify_url(report.verification_code) == \
-        f"http://testserver/verify/{report.verification_code}/"
+    assert (
+        reports.verify_url(report.verification_code)
+        == f"http://testserver/verify/{report.verification_code}/"
+    )
     response = client.get(f"/verify/{report.verification_code}/")
     assert response.status_code == 200
     page = response.content.decode()
@@ -44,9 +45,16 @@ def test_the_qr_link_confirms_number_date_and_digest_without_login(client, repor
 def test_the_page_reveals_nothing_else(client, report):
     page = client.get(f"/verify/{report.verification_code}/").content.decode()
     lot = report.lot
-    for secret in (lot.number, lot.order.number, lot.order.customer.name,
-                   lot.order.customer_order_number, lot.spec.part_number,
-                   report.issued_by.get_full_name(), "Reviewed", "conforms"):
+    for secret in (
+        lot.number,
+        lot.order.number,
+        lot.order.customer.name,
+        lot.order.customer_order_number,
+        lot.spec.part_number,
+        report.issued_by.get_full_name(),
+        "Reviewed",
+        "conforms",
+    ):
         assert secret not in page, secret
     assert "Sign out" not in page  # no navigation for anonymous visitors
 
@@ -74,8 +82,7 @@ def test_lookups_are_limited_per_client_address(client, report):
     assert int(refused["Retry-After"]) > 0
     assert report.sha256 not in refused.content.decode()
     # Unknown codes count too: guessing is what the limit is for.
-    assert client.get("/verify/AAAA-BBBB-CCCC-DDDD/", REMOTE_ADDR="192.0.2.10") \
-        .status_code == 429
+    assert client.get("/verify/AAAA-BBBB-CCCC-DDDD/", REMOTE_ADDR="192.0.2.10").status_code == 429
     # Another address is not affected (192.0.2.0/24 is documentation space, RFC 5737).
     assert client.get(url, REMOTE_ADDR="192.0.2.11").status_code == 200
 

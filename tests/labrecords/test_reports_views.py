@@ -25,17 +25,24 @@ def issue_for(cast, customer=None):
     lot = finished_lot(cast, customer=customer)
     with clock.frozen_at(LATER):
         reviews.review_sign(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
-        return reports.report_issue(actor=cast.reviewer, lot=lot, password=PASSWORD,
-                                    username="rev")
+        return reports.report_issue(actor=cast.reviewer, lot=lot, password=PASSWORD, username="rev")
 
 
 @pytest.fixture
 def issued(cast):
     own = issue_for(cast)
     other = issue_for(cast, customer=cast.other_org)
-    evidence = Evidence(kind="photo", lot=own.lot, file="evidence/00/photo", sha256="0" * 64,
-                        original_name="photo.jpg", content_type="image/jpeg", size=1,
-                        uploaded_by=cast.technician, uploaded_at=MOMENT)
+    evidence = Evidence(
+        kind="photo",
+        lot=own.lot,
+        file="evidence/00/photo",
+        sha256="0" * 64,
+        original_name="photo.jpg",
+        content_type="image/jpeg",
+        size=1,
+        uploaded_by=cast.technician,
+        uploaded_at=MOMENT,
+    )
     evidence.save()
     return own, other, evidence
 
@@ -43,17 +50,23 @@ def issued(cast):
 def record_urls(report: Report, evidence: Evidence) -> list[str]:
     lot, order = report.lot, report.lot.order
     return [
-        f"/reports/{report.number}/", f"/reports/{report.number}/pdf/",
-        f"/lots/{lot.pk}/", f"/evidence/{evidence.pk}/download/",
-        f"/orders/{order.pk}/results.csv", f"/orders/{order.pk}/results.xlsx",
+        f"/reports/{report.number}/",
+        f"/reports/{report.number}/pdf/",
+        f"/lots/{lot.pk}/",
+        f"/evidence/{evidence.pk}/download/",
+        f"/orders/{order.pk}/results.csv",
+        f"/orders/{order.pk}/results.xlsx",
     ]
 
 
 def lab_urls(report: Report) -> list[str]:
     lot = report.lot
     return [
-        f"/lots/{lot.pk}/review/", f"/lots/{lot.pk}/report/", f"/lots/{lot.pk}/report/draft.pdf",
-        f"/reports/{report.number}/amend/", f"/reports/{report.number}/reissue/",
+        f"/lots/{lot.pk}/review/",
+        f"/lots/{lot.pk}/report/",
+        f"/lots/{lot.pk}/report/draft.pdf",
+        f"/reports/{report.number}/amend/",
+        f"/reports/{report.number}/reissue/",
     ]
 
 
@@ -65,8 +78,7 @@ def test_anonymous_users_are_sent_to_sign_in(client, issued):
         assert response["Location"].startswith("/login/"), url
 
 
-def test_an_outsider_gets_404_for_every_report_lot_evidence_and_export_url(client, cast,
-                                                                           issued):
+def test_an_outsider_gets_404_for_every_report_lot_evidence_and_export_url(client, cast, issued):
     own, other, evidence = issued
     client.force_login(cast.outsider)
     for url in [*record_urls(own, evidence), *record_urls(other, evidence), *lab_urls(own)]:
@@ -117,8 +129,12 @@ def test_lab_staff_without_the_role_may_look_but_not_sign(client, cast, issued):
     assert page.status_code == 200 and b"Sign the review" not in page.content
     assert client.post(f"/lots/{lot.pk}/review/", {"password": PASSWORD}).status_code == 403
     assert client.post(f"/lots/{lot.pk}/report/", {"password": PASSWORD}).status_code == 403
-    assert client.post(f"/reports/{own.number}/amend/",
-                       {"password": PASSWORD, "change_description": "x"}).status_code == 403
+    assert (
+        client.post(
+            f"/reports/{own.number}/amend/", {"password": PASSWORD, "change_description": "x"}
+        ).status_code
+        == 403
+    )
     assert not Review.objects.filter(lot=lot).exists()
 
 
@@ -168,8 +184,7 @@ def test_issue_refused_shows_the_missing_item(client, cast, settings):
     assert "Missing the lab&#x27;s address (record the lab profile, or set LAB_ADDRESS)." in page
     response = client.post(f"/lots/{lot.pk}/report/", {"username": "qm", "password": PASSWORD})
     assert response.status_code == 200
-    assert "Cannot issue the report: missing the lab&#x27;s address" in \
-        response.content.decode()
+    assert "Cannot issue the report: missing the lab&#x27;s address" in response.content.decode()
     assert not Report.objects.exists()
 
 
@@ -177,15 +192,22 @@ def test_an_amendment_and_a_reissue_through_the_pages(client, cast, issued):
     own, _, _ = issued
     client.force_login(cast.reviewer)
     with clock.frozen_at(LATER + datetime.timedelta(days=1)):
-        response = client.post(f"/reports/{own.number}/amend/", {
-            "username": "rev", "password": PASSWORD,
-            "change_description": "The customer's order number was misprinted."})
+        response = client.post(
+            f"/reports/{own.number}/amend/",
+            {
+                "username": "rev",
+                "password": PASSWORD,
+                "change_description": "The customer's order number was misprinted.",
+            },
+        )
     amendment = Report.objects.get(kind=ReportKind.AMENDMENT)
     assert response["Location"] == f"/reports/{amendment.number}/"
     assert amendment.number in client.get(f"/reports/{own.number}/").content.decode()
     with clock.frozen_at(LATER + datetime.timedelta(days=2)):
-        client.post(f"/reports/{own.number}/reissue/", {
-            "password": PASSWORD, "change_description": "Complete re-issue."})
+        client.post(
+            f"/reports/{own.number}/reissue/",
+            {"password": PASSWORD, "change_description": "Complete re-issue."},
+        )
     reissue = Report.objects.get(kind=ReportKind.REISSUE)
     page = client.get(f"/reports/{own.number}/").content.decode()
     assert f"Superseded by {reissue.number}" in page and "Issue an amendment" not in page

@@ -27,21 +27,25 @@ class Command(BaseCommand):
     )
 
     def add_arguments(self, parser):
-        parser.add_argument("--out", required=True, type=Path,
-                            help="the folder to write into (created if missing)")
-        parser.add_argument("--order", metavar="NUMBER",
-                            help="only the reports of this lab order number")
-        parser.add_argument("--dry-run", action="store_true",
-                            help="check the stored files and say what would be written; write "
-                                 "nothing")
+        parser.add_argument(
+            "--out", required=True, type=Path, help="the folder to write into (created if missing)"
+        )
+        parser.add_argument(
+            "--order", metavar="NUMBER", help="only the reports of this lab order number"
+        )
+        parser.add_argument(
+            "--dry-run",
+            action="store_true",
+            help="check the stored files and say what would be written; write nothing",
+        )
 
     def handle(self, *args, **options):
         out: Path = options["out"]
         if out.exists() and not out.is_dir():
             raise CommandError(f"--out {out} is a file, not a folder.")
         reports = Report.objects.select_related(
-            "lot__order__customer", "amends", "replaces", "replaced_by").order_by("issued_at",
-                                                                                  "number")
+            "lot__order__customer", "amends", "replaces", "replaced_by"
+        ).order_by("issued_at", "number")
         if options["order"]:
             if not Order.objects.filter(number=options["order"]).exists():
                 raise CommandError(f"--order {options['order']}: no order has this number.")
@@ -56,10 +60,10 @@ class Command(BaseCommand):
                 problems.append(f"{report.number}: {message}")
                 continue
             target = out / f"{report.number}.pdf"
-            if target.exists() and hashlib.sha256(target.read_bytes()).hexdigest() \
-                    != report.sha256:
-                problems.append(f"{report.number}: {target} exists with other bytes; it is "
-                                "not overwritten")
+            if target.exists() and hashlib.sha256(target.read_bytes()).hexdigest() != report.sha256:
+                problems.append(
+                    f"{report.number}: {target} exists with other bytes; it is not overwritten"
+                )
                 continue
             files.append((report, target, data))
         if problems:
@@ -68,8 +72,10 @@ class Command(BaseCommand):
         if options["dry_run"]:
             for report, target, _ in files:
                 self.stdout.write(f"would write {target} ({report.sha256})")
-            self.stdout.write(f"would write {out / MANIFEST} and {out / CHECKSUMS}; "
-                              f"{len(files)} report(s). Nothing written (dry run).")
+            self.stdout.write(
+                f"would write {out / MANIFEST} and {out / CHECKSUMS}; "
+                f"{len(files)} report(s). Nothing written (dry run)."
+            )
             return
         out.mkdir(parents=True, exist_ok=True)
         written = 0
@@ -77,14 +83,18 @@ class Command(BaseCommand):
             if not target.exists():
                 target.write_bytes(data)
                 written += 1
-        (out / MANIFEST).write_text(json.dumps({"reports": manifest}, indent=2) + "\n",
-                                    encoding="utf-8")
+        (out / MANIFEST).write_text(
+            json.dumps({"reports": manifest}, indent=2) + "\n", encoding="utf-8"
+        )
         (out / CHECKSUMS).write_text(
-            "".join(f"{entry['sha256']}  {entry['file']}\n" for entry in manifest),
-            encoding="utf-8")
-        self.stdout.write(self.style.SUCCESS(
-            f"Exported {len(files)} report(s) to {out} ({written} new file(s)), with "
-            f"{MANIFEST} and {CHECKSUMS}."))
+            "".join(f"{entry['sha256']}  {entry['file']}\n" for entry in manifest), encoding="utf-8"
+        )
+        self.stdout.write(
+            self.style.SUCCESS(
+                f"Exported {len(files)} report(s) to {out} ({written} new file(s)), with "
+                f"{MANIFEST} and {CHECKSUMS}."
+            )
+        )
 
 
 def _entry(report: Report, file_name: str) -> dict[str, object]:
