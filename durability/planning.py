@@ -28,6 +28,7 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, fields
 from typing import Any
 
+from durability.callouts.model import KINDS as CALLOUT_KINDS
 from durability.catalogue_data import (
     KINDS,
     TEST_KEYS,
@@ -57,15 +58,8 @@ __all__ = [
     "plan_sequences",
 ]
 
-REQUIREMENT_KINDS: tuple[str, ...] = (
-    "coating_spec",
-    "environmental",
-    "test_method",
-    "crosshatch_limit",
-    "scratch_dig",
-    "iso10110_7",
-    "unknown",
-)
+# The requirement kinds are the callout parser's.
+REQUIREMENT_KINDS: tuple[str, ...] = CALLOUT_KINDS
 
 INSPECTION_CODE = "LAB:inspection"
 SPECTRAL_CODE = "LAB:spectral"

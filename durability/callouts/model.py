@@ -6,6 +6,7 @@ import copy
 from dataclasses import dataclass, field
 from typing import Any
 
+from durability.catalogue_data import TEST_KEYS
 from durability.errors import InputError
 from durability.grading import BoundaryConvention
 
@@ -18,20 +19,8 @@ __all__ = [
     "Requirement",
 ]
 
-# The catalogue's test keys; MIL coating-spec requirements name their tests with these.
-TEST_KEYS: tuple[str, ...] = (
-    "adhesion",
-    "humidity",
-    "moderate_abrasion",
-    "severe_abrasion",
-    "temperature",
-    "solvent_solubility",
-    "salt_solubility",
-    "water_solubility",
-    "salt_fog",
-    "crosshatch",
-)
-
+# TEST_KEYS (imported above) are the catalogue's test keys; MIL coating-spec requirements
+# name their tests with them. KINDS are the kinds of requirement the parser returns.
 KINDS: tuple[str, ...] = (
     "coating_spec",
     "environmental",
