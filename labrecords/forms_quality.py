@@ -27,7 +27,8 @@ class DispositionForm(forms.Form):
 class GrantForm(forms.Form):
     user = forms.ModelChoiceField(
         queryset=get_user_model().objects.filter(
-            groups__name__in=[Role.TECHNICIAN.value, Role.ENGINEER.value]).distinct()
+            groups__name__in=[Role.TECHNICIAN.value, Role.ENGINEER.value,
+                              Role.REVIEWER.value]).distinct()
         .order_by("username"),
         label="Person")
     method = forms.ModelChoiceField(queryset=Method.objects.order_by("code"))

@@ -117,6 +117,7 @@ class _Demo:
         self.now = now
         self.technician = lab.staff[Role.TECHNICIAN]
         self.engineer = lab.staff[Role.ENGINEER]
+        self.reviewer = lab.staff[Role.REVIEWER]
         self.quality = lab.staff[Role.QUALITY_MANAGER]
         self.out = DemoResults()
         self.instruments = {i.ident: i for i in Instrument.objects.all()}
@@ -138,7 +139,7 @@ class _Demo:
                          .values_list("method_version__method_id", flat=True))
         with clock.frozen_at(at):
             for method in Method.objects.filter(pk__in=method_ids).order_by("code"):
-                for user in (self.technician, self.engineer):
+                for user in (self.technician, self.engineer, self.reviewer):
                     if not authorisations.is_authorised(user, method):
                         authorisations.method_authorisation_grant(
                             actor=self.quality, user=user, method=method,

@@ -39,7 +39,12 @@ class DemoLab:
 
 def logins() -> list[tuple[str, str, str]]:
     """(user name, password, role) for every demo login."""
+    from labrecords.demo.reports import SECOND_REVIEWER
+
     rows = [(u, pw, role) for u, _, role, pw in scenario.STAFF]
+    username, _, password = SECOND_REVIEWER
+    if get_user_model().objects.filter(username=username).exists():
+        rows.append((username, password, "reviewer and engineer"))
     rows += [(u, pw, f"customer ({code})") for u, _, code, pw in scenario.CUSTOMER_USERS]
     return rows
 
@@ -51,6 +56,19 @@ def already_built() -> bool:
 def _at(day: datetime.date, hour: int, minute: int = 0) -> datetime.datetime:
     local = datetime.datetime.combine(day, datetime.time(hour, minute))
     return timezone.make_aware(local, timezone.get_default_timezone())
+
+
+@transaction.atomic
+def build_all(*, today: datetime.date | None = None) -> DemoLab:
+    """The whole demo: the lab and its lots, then each later stage of their history."""
+    from labrecords.demo import bench, evidence, reports, schedule
+
+    lab = build(today=today)
+    bench.record_demo_results(lab)
+    evidence.record_demo_evidence(lab)
+    reports.issue_demo_reports(lab)
+    schedule.build_demo_schedule(lab, today=today)
+    return lab
 
 
 @transaction.atomic

@@ -19,6 +19,8 @@ from labrecords.services.audit import audit_record, change_audited, snapshot
 
 # Only people who record results can be put on the list.
 RECORDING_ROLES = (Role.TECHNICIAN, Role.ENGINEER)
+# The list serves both who may record a method and who may review its results.
+AUTHORISABLE_ROLES = (*RECORDING_ROLES, Role.REVIEWER)
 
 
 def is_authorised(user, method: Method) -> bool:
@@ -40,11 +42,16 @@ def require_method_authorisation(user, method: Method) -> None:
 @transaction.atomic
 def method_authorisation_grant(*, actor, user, method: Method,
                                reason: str = "") -> MethodAuthorisation:
-    """Put `user` on the list for `method` (quality manager). Refused when already on it."""
+    """Put `user` on the list for `method` (quality manager). Refused when already on it.
+
+    A technician or engineer on the list may record the method; a reviewer on it may review
+    its results (recording still needs a recording role).
+    """
     require_role(actor, Role.QUALITY_MANAGER)
-    if not has_role(user, *RECORDING_ROLES):
+    if not has_role(user, *AUTHORISABLE_ROLES):
         raise ValidationError(
-            {"user": f"{user.get_username()} holds no recording role (technician or engineer)."}
+            {"user": f"{user.get_username()} holds no role the list is for "
+                     "(technician, engineer or reviewer)."}
         )
     if is_authorised(user, method):
         raise ValidationError(

@@ -36,8 +36,12 @@ class WaitingView(LoginRequiredMixin, SingleTableMixin, FilterView):
         return waiting_assignments()
 
     def promised_dates(self):
-        """Hook for the scheduler: lot id -> promised date. None until schedules exist."""
-        return None
+        """Lot id -> promised date from the lab's schedule (computed once per request)."""
+        if not hasattr(self, "_promised"):
+            from labrecords.selectors_schedule import promised_dates
+
+            self._promised = promised_dates()
+        return self._promised
 
     def get_table_data(self):
         # FilterView leaves the filtered assignments (or none, for invalid filters) here.
@@ -49,7 +53,7 @@ class WaitingView(LoginRequiredMixin, SingleTableMixin, FilterView):
         return rows
 
     def get_table_kwargs(self):
-        if self.promised_dates() is None:
+        if not self.promised_dates():  # no resources scheduled yet: no promised column
             return {"exclude": ("promised",)}
         return {}
 

@@ -299,9 +299,19 @@ def test_only_the_quality_manager_grants_and_a_customer_cannot_be_granted(cast):
     with pytest.raises(PermissionDenied):
         authorisations.method_authorisation_grant(actor=cast.technician,
                                                   user=cast.technician, method=method)
-    with pytest.raises(ValidationError, match="recording role"):
+    with pytest.raises(ValidationError, match="no role the list is for"):
         authorisations.method_authorisation_grant(actor=cast.quality_manager,
                                                   user=cast.customer, method=method)
+
+
+def test_a_reviewer_on_the_list_may_review_the_method_but_still_cannot_record(cast):
+    b = bench_setup(cast)
+    method = b.step(1).method_version.method
+    authorisations.method_authorisation_grant(actor=cast.quality_manager, user=cast.reviewer,
+                                              method=method, reason="trained reviewer")
+    assert authorisations.is_authorised(cast.reviewer, method)
+    with pytest.raises(PermissionDenied):
+        record(b, 1, actor=cast.reviewer)
 
 
 def test_a_reviewer_cannot_record(cast):

@@ -48,15 +48,23 @@ def browser():
         pytest.skip(reason)
     # Playwright's sync API runs an event loop in this thread; the test's own database
     # calls around it are synchronous and safe.
-    os.environ.setdefault("DJANGO_ALLOW_ASYNC_UNSAFE", "true")
+    # Set for these tests only, and taken back after them.
+    previous = os.environ.get("DJANGO_ALLOW_ASYNC_UNSAFE")
+    os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = "true"
     from playwright.sync_api import sync_playwright
 
-    with sync_playwright() as playwright:
-        browser = playwright.chromium.launch(
-            executable_path=str(CHROMIUM), args=ARGS, headless=True
-        )
-        yield browser
-        browser.close()
+    try:
+        with sync_playwright() as playwright:
+            browser = playwright.chromium.launch(
+                executable_path=str(CHROMIUM), args=ARGS, headless=True
+            )
+            yield browser
+            browser.close()
+    finally:
+        if previous is None:
+            os.environ.pop("DJANGO_ALLOW_ASYNC_UNSAFE", None)
+        else:
+            os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = previous
 
 
 @pytest.fixture(autouse=True)

@@ -35,8 +35,10 @@ class Command(BaseCommand):
             self.stdout.write("The demo lab is already built; nothing changed.")
         else:
             call_command("catalogue_seed", verbosity=0)
-            lab = build.build()
-            self.stdout.write(self.style.SUCCESS(f"Built the demo lab with {len(lab.lots)} lots."))
+            lab = build.build_all()
+            self.stdout.write(self.style.SUCCESS(
+                f"Built the demo lab with {len(lab.lots)} lots: plans, bench results, chamber "
+                "runs, spectra, reports, resources and custody."))
         self.stdout.write("Demo logins (user name / password / role):")
         for username, password, role in build.logins():
             self.stdout.write(f"  {username:8} {password:22} {role}")

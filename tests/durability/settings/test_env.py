@@ -59,7 +59,8 @@ def test_database_urls_for_postgresql_and_sqlite():
 
 
 def _manage(*args: str, **env: str) -> subprocess.CompletedProcess:
-    full_env = {k: v for k, v in os.environ.items() if k not in {"SECRET_KEY", "ALLOWED_HOSTS"}}
+    dropped = {"SECRET_KEY", "ALLOWED_HOSTS", "DJANGO_ALLOW_ASYNC_UNSAFE", "DATABASE_URL"}
+    full_env = {k: v for k, v in os.environ.items() if k not in dropped}
     full_env.update(env)
     return subprocess.run(
         [sys.executable, "manage.py", *args],
