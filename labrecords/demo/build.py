@@ -65,6 +65,7 @@ def build_all(*, today: datetime.date | None = None) -> DemoLab:
 
     lab = build(today=today)
     bench.record_demo_results(lab)
+    evidence.check_bench_runs(lab)
     evidence.record_demo_evidence(lab)
     reports.issue_demo_reports(lab)
     schedule.build_demo_schedule(lab, today=today)

@@ -59,6 +59,8 @@ def test_the_demo_lab_builds_its_whole_history_and_a_second_run_changes_nothing(
     assert StepResult.objects.filter(verdict="invalid").exists()
     assert ChamberRun.objects.exists()
     assert Report.objects.filter(kind="report").exists()
+    assert Report.objects.filter(kind="amendment").exists()
+    assert Report.objects.filter(kind="reissue").exists()
     counts = (Lot.objects.count(), AuditEntry.objects.count(), StepResult.objects.count())
     again = io.StringIO()
     call_command("demo_lab", stdout=again)
