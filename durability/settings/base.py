@@ -104,11 +104,9 @@ USE_TZ = True
 # Stored in UTC; shown in the lab's time zone.
 TIME_ZONE = env_time_zone("LAB_TIME_ZONE", "Europe/Berlin")
 
-# ISO dates everywhere: a lab's records are read across countries.
-DATE_FORMAT = "Y-m-d"
-SHORT_DATE_FORMAT = "Y-m-d"
-DATETIME_FORMAT = "Y-m-d H:i T"
-SHORT_DATETIME_FORMAT = "Y-m-d H:i"
+# ISO dates everywhere (durability/formats/en/formats.py): locale formats win over the
+# DATE_FORMAT settings, so the format module is where they are set.
+FORMAT_MODULE_PATH = ["durability.formats"]
 
 STATIC_URL = "static/"
 STATICFILES_DIRS = [BASE_DIR / "durability" / "static"]
