@@ -25,3 +25,15 @@ def test_the_readme_opens_with_the_job_then_the_run_and_test_commands():
     assert "catalogue_seed" in run and "migrate" in run
     assert "pytest" in test and ".[test]" in test
     assert readme.index("witness pieces") < readme.index(run)
+
+
+def test_the_code_passes_the_linter():
+    """ruff with the project's rules (pyproject.toml); the house style asks for it."""
+    import shutil
+    import subprocess
+    import sys
+
+    ruff = shutil.which("ruff") or str(pathlib.Path(sys.executable).with_name("ruff"))
+    result = subprocess.run([ruff, "check", "."], cwd=ROOT, capture_output=True, text=True,
+                            timeout=120)
+    assert result.returncode == 0, result.stdout + result.stderr

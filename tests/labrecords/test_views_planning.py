@@ -140,3 +140,43 @@ def test_a_quality_manager_confirms_a_value_as_a_new_version(client, cast):
     assert method.versions.get(number=1).temperature_tolerance_c is not None  # v1 unchanged
     page = client.get(f"/methods/{method.code}/").content.decode()
     assert "Confirmed" in page and "v2" in page
+
+
+def test_a_quality_manager_adds_an_edition_and_a_lab_procedure(client, cast):
+    from durability.models import Standard
+
+    catalogue_seed()
+    client.force_login(cast.engineer)
+    assert client.get("/methods/standards/new/").status_code == 403
+    client.force_login(cast.quality_manager)
+    client.post("/methods/standards/new/", {"designation": "ISO 9211-4", "edition": "2022",
+                                             "title": "abrasion, adhesion and resistance to water",
+                                             "status": "active"})
+    assert Standard.objects.filter(designation="ISO 9211-4", edition="2022").exists()
+    lab = Standard.objects.get(designation="LAB")
+    response = client.post("/methods/procedures/new/", {
+        "code": "LAB:boil-tape", "standard": lab.pk, "name": "Boiling water then tape",
+        "kind": "adhesion", "parameters": "duration_h = 1 h\nwater = deionised",
+        "acceptance_text": "no coating removed", "hazards": ["boiling_water"]})
+    assert response.status_code == 302
+    method = Method.objects.get(code="LAB:boil-tape")
+    version = method.current_version()
+    assert method.lab_procedure and version.number == 1 and float(version.duration_h) == 1
+    assert version.extra["water"] == "deionised"
+    page = client.get(f"/methods/{method.code}/").content.decode()
+    assert "Boiling water" in page and "safety data sheets" in page
+
+
+def test_a_bad_parameter_line_names_the_line_and_saves_nothing(client, cast):
+    from durability.models import Standard
+
+    catalogue_seed()
+    client.force_login(cast.quality_manager)
+    lab = Standard.objects.get(designation="LAB")
+    response = client.post("/methods/procedures/new/", {
+        "code": "LAB:x", "standard": lab.pk, "name": "X", "kind": "other",
+        "parameters": "duration_h = 1 h\nthis line has no equals sign",
+        "acceptance_text": "y"})
+    assert response.status_code == 200
+    assert "Line 2" in response.content.decode()
+    assert not Method.objects.filter(code="LAB:x").exists()

@@ -5,7 +5,12 @@ DATETIME_FORMAT = "Y-m-d H:i T"
 SHORT_DATETIME_FORMAT = "Y-m-d H:i"
 TIME_FORMAT = "H:i"
 DATE_INPUT_FORMATS = ["%Y-%m-%d"]
-DATETIME_INPUT_FORMATS = ["%Y-%m-%d %H:%M:%S", "%Y-%m-%d %H:%M", "%Y-%m-%dT%H:%M:%S", "%Y-%m-%dT%H:%M"]
+DATETIME_INPUT_FORMATS = [
+    "%Y-%m-%d %H:%M:%S",
+    "%Y-%m-%d %H:%M",
+    "%Y-%m-%dT%H:%M:%S",
+    "%Y-%m-%dT%H:%M",
+]
 TIME_INPUT_FORMATS = ["%H:%M:%S", "%H:%M"]
 DECIMAL_SEPARATOR = "."
 THOUSAND_SEPARATOR = "\u2009"
