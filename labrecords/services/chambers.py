@@ -399,7 +399,34 @@ def _record_check(
             "sha256": evidence.sha256,
         },
     )
+    if not counts:
+        _question_passes(actor=actor, run=run, check=check)
     return check
+
+
+def _question_passes(*, actor, run: ChamberRun, check: ExposureCheck) -> None:
+    """A run whose exposure does not count cannot produce a pass: a pass recorded on it
+    before its log was checked gets a nonconformance about the test, which holds the lot's
+    report until the quality manager disposes of it (a retest, usually)."""
+    from labrecords.models import StepResult
+    from labrecords.services.nonconformances import nonconformance_open
+
+    passes = (
+        StepResult.objects.current()
+        .filter(chamber_run=run, verdict="pass")
+        .select_related("piece__lot")
+    )
+    for result in passes:
+        nonconformance_open(
+            actor=actor,
+            kind="invalid_test",
+            lot=result.piece.lot,
+            result=result,
+            description=(
+                f"The exposure of chamber run {run.ident} does not count (exposure check "
+                f"{check.pk}); the pass recorded for {result.piece.ident} on it cannot stand."
+            ),
+        )
 
 
 @transaction.atomic

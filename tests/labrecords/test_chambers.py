@@ -401,3 +401,26 @@ def test_a_cold_method_that_requires_continuous_hours_is_read_as_such():
         -38.0,
     )
     assert condition_of(version_parameters(version)) == "-40 ± 2 °C, 5 h"
+
+
+def test_a_pass_recorded_before_a_log_that_does_not_count_gets_a_nonconformance(cast, humidity):
+    from labrecords.models import Nonconformance, StepResult, Verdict
+
+    run = _loaded_and_unloaded(cast, humidity)
+    piece = humidity["pieces"][0]
+    step = humidity["step"]
+    StepResult.objects.create(
+        step=step, step_key=step.step_key, piece=piece, chamber_run=run,
+        verdict=Verdict.PASS, verdict_reason="recorded before the log was checked",
+        recorded_by=cast.technician, recorded_at=NOW, observed_at=UNLOADED,
+    )
+    with clock.frozen_at(NOW):
+        check = chambers.chamber_log_upload(
+            actor=cast.technician, run=run, data=HUMIDITY_LOG, original_name="log.csv",
+            duration_rule="continuous",
+        )
+    assert check.counts is False
+    opened = Nonconformance.objects.get(lot=piece.lot)
+    # Invalid means the test itself does not count, not a coating failure.
+    assert opened.kind == "invalid_test" and opened.disposition == ""
+    assert run.ident in opened.description and piece.ident in opened.description
