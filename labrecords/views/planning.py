@@ -143,6 +143,14 @@ def lot_plan(request, pk: int):
     )
 
 
+def _engineer_lot(request, pk: int):
+    """The lot, for an engineer's plan action (404 outside the lab, 403 without the role)."""
+    lot = lot_for_user(request.user, pk)
+    _lab_only(request.user)
+    require_role(request.user, Role.ENGINEER)
+    return lot
+
+
 def _plan_action(request, lot, action) -> None:
     try:
         action()
@@ -154,9 +162,7 @@ def _plan_action(request, lot, action) -> None:
 @require_POST
 @login_required
 def plan_create(request, pk: int):
-    lot = lot_for_user(request.user, pk)
-    _lab_only(request.user)
-    require_role(request.user, Role.ENGINEER)
+    lot = _engineer_lot(request, pk)
     form = PlanCreateForm(request.POST)
     if form.is_valid():
         _plan_action(
@@ -172,9 +178,7 @@ def plan_create(request, pk: int):
 @require_POST
 @login_required
 def plan_assign(request, pk: int):
-    lot = lot_for_user(request.user, pk)
-    _lab_only(request.user)
-    require_role(request.user, Role.ENGINEER)
+    lot = _engineer_lot(request, pk)
     view = planning.lot_plan(lot)
     if view is not None:
         _plan_action(
@@ -188,9 +192,7 @@ def plan_assign(request, pk: int):
 @require_POST
 @login_required
 def plan_release(request, pk: int):
-    lot = lot_for_user(request.user, pk)
-    _lab_only(request.user)
-    require_role(request.user, Role.ENGINEER)
+    lot = _engineer_lot(request, pk)
     view = planning.lot_plan(lot)
     form = ReleaseForm(request.POST)
     if view is not None and form.is_valid():
@@ -211,9 +213,7 @@ def plan_release(request, pk: int):
 @require_POST
 @login_required
 def plan_revise(request, pk: int):
-    lot = lot_for_user(request.user, pk)
-    _lab_only(request.user)
-    require_role(request.user, Role.ENGINEER)
+    lot = _engineer_lot(request, pk)
     view = planning.lot_plan(lot)
     form = ReasonForm(request.POST)
     if view is None:
