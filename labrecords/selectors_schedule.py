@@ -431,6 +431,7 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
                         )
                     elif len(fit) < len(able):
                         covering[step_id] = frozenset(r.ident for r in fit)
+                        row["resources"] = sorted(covering[step_id])
                     if (
                         reason is None
                         and all(not r.is_chamber for r in able)

@@ -207,6 +207,10 @@ def load_workload(data: Any) -> Workload:
             _text(a, f"{where}.after[{j}]")
             for j, a in enumerate(_list(obj.get("after", []), f"{where}.after"))
         )
+        allowed = tuple(
+            _text(r, f"{where}.resources[{j}]")
+            for j, r in enumerate(_list(obj.get("resources", []), f"{where}.resources"))
+        )
         fixed = None
         if obj.get("fixed") is not None:
             f_obj = _object(obj["fixed"], f"{where}.fixed")
@@ -227,6 +231,7 @@ def load_workload(data: Any) -> Workload:
                 after=after,
                 wait_hours=_number(obj.get("wait_hours", 0), f"{where}.wait_hours"),
                 fixed=fixed,
+                resources=allowed,
             )
         )
     return Workload(

@@ -104,6 +104,8 @@ class Step:
     `after` lists the steps that must end first; `wait_hours` is the minimum wait
     after the last of them (or after the workload's start when `after` is empty).
     Chamber steps with equal kind, condition and duration may share a chamber run.
+    `resources`, when given, limits the step to those resources (for example the
+    chambers whose condition ranges cover it); empty means any resource of its kind.
     """
 
     id: str
@@ -115,6 +117,7 @@ class Step:
     after: tuple[str, ...] = ()
     wait_hours: float = 0.0
     fixed: FixedPlacement | None = None
+    resources: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -126,7 +126,7 @@ def prepare(workload: Workload) -> Prepared:
     fixed_resource = [NO_RESOURCE] * n
     fixed_start = [0] * n
     piece_index: dict[str, int] = {}
-    key_index: dict[tuple[str, str, int], int] = {}
+    key_index: dict[tuple[str, str, int, tuple[str, ...]], int] = {}
 
     for s_i, step in enumerate(workload.steps):
         where = _name(s_i, step.id)
@@ -145,7 +145,10 @@ def prepare(workload: Workload) -> Prepared:
             lot_index[step.lot] = len(lots)
             lots.append(Lot(id=step.lot))
         lot_of[s_i] = lot_index[step.lot]
-        batch_key[s_i] = key_index.setdefault((step.kind, step.condition, dur[s_i]), len(key_index))
+        # Steps limited to different resources never share a run.
+        batch_key[s_i] = key_index.setdefault(
+            (step.kind, step.condition, dur[s_i], tuple(sorted(step.resources))), len(key_index)
+        )
         seen: set[str] = set()
         for a_i, before in enumerate(step.after):
             if before not in step_index:
@@ -158,8 +161,20 @@ def prepare(workload: Workload) -> Prepared:
             preds[s_i].append(step_index[before])
             succs[step_index[before]].append(s_i)
 
-        able = [r_i for r_i, r in enumerate(workload.resources) if step.kind in r.kinds]
+        for r_i, name in enumerate(step.resources):
+            if name not in resource_index:
+                raise InputError(f"{where}.resources[{r_i}]: unknown resource {name!r}")
+        able = [
+            r_i
+            for r_i, r in enumerate(workload.resources)
+            if step.kind in r.kinds and (not step.resources or r.id in step.resources)
+        ]
         if not able:
+            if step.resources:
+                raise InputError(
+                    f"{where}: none of its resources ({', '.join(step.resources)}) can run "
+                    f"kind {step.kind!r}"
+                )
             raise InputError(f"{where}: no resource can run kind {step.kind!r}")
         if step.fixed is not None:
             f_where = f"{where}.fixed"

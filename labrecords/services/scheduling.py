@@ -82,7 +82,6 @@ class LabSchedule:
     closes: datetime.time
     holidays: tuple[datetime.date, ...]
     notes: tuple[str, ...]
-    warnings: tuple[str, ...]
     makespan_hours: float = 0.0
     lower_bound_hours: float = 0.0
     lower_bound_binding: str = ""
@@ -148,10 +147,9 @@ def compute(inputs: ScheduleInputs, options: SolverOptions | None = None) -> Lab
     try:
         answer = schedule(load_workload(inputs.workload), options or OPTIONS)
     except InputError as exc:
-        return LabSchedule(steps=(), lots=(), warnings=(), error=str(exc), **base)
+        return LabSchedule(steps=(), lots=(), error=str(exc), **base)
 
     steps = []
-    warnings = []
     for a in answer.assignments:
         ref = inputs.steps[a.step]
         steps.append(
@@ -171,13 +169,6 @@ def compute(inputs: ScheduleInputs, options: SolverOptions | None = None) -> Lab
                 hazards=ref.hazards,
             )
         )
-        allowed = inputs.covering.get(a.step)
-        if allowed is not None and a.resource not in allowed:
-            warnings.append(
-                f"{ref.piece_ident} {ref.name} is placed on {a.resource}, whose condition "
-                f"ranges do not cover it (it fits {', '.join(sorted(allowed))}); the "
-                "scheduler places steps by method kind only: move it when loading."
-            )
     stuck = {u.lot_number: u for u in inputs.unschedulable}
     lots = []
     for promise in answer.lots:
@@ -226,7 +217,6 @@ def compute(inputs: ScheduleInputs, options: SolverOptions | None = None) -> Lab
     return LabSchedule(
         steps=tuple(steps),
         lots=tuple(lots),
-        warnings=tuple(warnings),
         makespan_hours=answer.makespan_hours,
         lower_bound_hours=answer.lower_bound_hours,
         lower_bound_binding=answer.lower_bound.binding,

@@ -525,3 +525,44 @@ def test_busy_intervals_merge_when_a_fixed_run_overlaps_a_blocked_period() -> No
     assert busy.conflict(100, 115) == 375
     assert busy.conflict(375, 500) is None
     assert busy.conflict(650, 660) == 700
+
+
+# ---------------------------------------------------------------- resources a step may use
+
+
+def test_a_step_limited_to_some_resources_is_placed_only_on_them() -> None:
+    # Two humidity chambers; W2's condition is covered only by HUM-2 (say its RH range).
+    # Worked by hand: W1 loads HUM-1 Mon 08:00 and W2 loads HUM-2 Mon 08:00, both 24 h;
+    # without the limit either could take either chamber (common practice conventions).
+    limited = step("W2-HUM", "humidity", 24, piece="W2", condition="85C/85RH")
+    limited["resources"] = ["HUM-2"]
+    data = workload(
+        [chamber("HUM-1", ["humidity"], 1), chamber("HUM-2", ["humidity"], 1)],
+        [step("W1-HUM", "humidity", 24, condition="49C/95RH"), limited],
+    )
+    result, placed = solve(data)
+    assert placed["W2-HUM"].resource == "HUM-2"
+    assert placed["W1-HUM"].resource == "HUM-1"
+    assert result.makespan_hours == 24
+
+
+def test_steps_limited_to_different_resources_never_share_a_run() -> None:
+    first = step("W1-HUM", "humidity", 24, piece="W1", condition="49C/95RH")
+    second = step("W2-HUM", "humidity", 24, piece="W2", condition="49C/95RH")
+    second["resources"] = ["HUM-1"]
+    data = workload([chamber("HUM-1", ["humidity"], 2), chamber("HUM-2", ["humidity"], 2)],
+                    [first, second])
+    _, placed = solve(data)
+    assert placed["W1-HUM"].chamber_run != placed["W2-HUM"].chamber_run
+
+
+def test_an_unknown_or_unable_resource_in_a_steps_list_is_refused_naming_the_step() -> None:
+    bad = step("W1-HUM", "humidity", 24)
+    bad["resources"] = ["HUM-9"]
+    with pytest.raises(InputError, match=r"W1-HUM.*resources\[0\].*HUM-9"):
+        prepare(load_workload(workload([chamber("HUM-1", ["humidity"], 1)], [bad])))
+    wrong = step("W1-HUM", "humidity", 24)
+    wrong["resources"] = ["TAPE-1"]
+    with pytest.raises(InputError, match=r"W1-HUM.*none of its resources \(TAPE-1\)"):
+        prepare(load_workload(workload(
+            [chamber("HUM-1", ["humidity"], 1), bench("TAPE-1", ["adhesion"])], [wrong])))
