@@ -19,8 +19,8 @@ Conventions (common practice, stated here once):
   the coating day).
 - condition = method code and version, severity and the step's parameter values:
   chamber steps share a run only when all of these are equal.
-- due = the order's due date at the end of that day; priority 1 for lots in
-  retest, 0 otherwise (the records hold no other priority).
+- due = the order's due date at the end of that day; priority = the lot's own (a rush
+  lot), and at least 1 for a lot in retest.
 - A resource is blocked in its blocked periods, from the day after its
   instrument's calibration due date, and while its instrument is out of service.
 """
@@ -484,7 +484,7 @@ def schedule_inputs(now: datetime.datetime | None = None) -> ScheduleInputs:
                     lot.order.due_date + datetime.timedelta(days=1), datetime.time()
                 )
             ),
-            "priority": 1 if lot.stage == LotStage.RETEST else 0,
+            "priority": max(lot.priority, 1 if lot.stage == LotStage.RETEST else 0),
         }
         for number, lot in sorted(lots.items())
     ]

@@ -19,6 +19,7 @@ app_name = "labrecords"
 urlpatterns = [
     path("", lots.HomeView.as_view(), name="home"),
     path("lots/<int:pk>/", lots.lot_detail, name="lot-detail"),
+    path("lots/<int:pk>/priority/", lots.lot_priority, name="lot-priority"),
     path("pieces/<str:ident>/", lots.piece_detail, name="piece-detail"),
     path("specs/<int:pk>/", planning.spec_detail, name="spec-detail"),
     path("specs/<int:pk>/callouts/", planning.spec_callouts, name="spec-callouts"),

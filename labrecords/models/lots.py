@@ -40,6 +40,9 @@ class Lot(models.Model):
     parts = models.CharField(max_length=200, help_text="the customer's parts in this run")
     quantity = models.PositiveIntegerField()
     stage = models.CharField(max_length=20, choices=LotStage.choices, default=LotStage.PLANNED)
+    priority = models.PositiveSmallIntegerField(
+        default=0, help_text="larger is more urgent: a rush lot gets 1 or more"
+    )
 
     objects = LotQuerySet.as_manager()
 

@@ -119,3 +119,15 @@ def witness_piece_create(*, actor, lot: Lot, glass: Glass, position: str = "") -
         ident=f"{lot.number}-W{number:02d}", lot=lot, glass=glass, position=position
     )
     return create_audited(actor=actor, obj=piece)
+
+
+@transaction.atomic
+def lot_priority_set(*, actor, lot: Lot, priority: int, reason: str) -> Lot:
+    """Mark a lot as a rush (priority above 0) or back to normal; the schedule follows."""
+    require_role(actor, Role.ENGINEER, Role.QUALITY_MANAGER)
+    if priority < 0:
+        raise ValidationError({"priority": "Priority is 0 (normal) or more (rush)."})
+    if not reason.strip():
+        raise ValidationError({"reason": "Say why the lot's priority changes."})
+    locked = Lot.objects.select_for_update().get(pk=lot.pk)
+    return change_audited(actor=actor, obj=locked, changes={"priority": priority}, reason=reason)

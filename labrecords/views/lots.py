@@ -1,15 +1,19 @@
+from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.contrib.auth.mixins import LoginRequiredMixin
-from django.shortcuts import render
-from django.views.decorators.http import require_safe
+from django.core.exceptions import ValidationError
+from django.http import Http404
+from django.shortcuts import redirect, render
+from django.views.decorators.http import require_POST, require_safe
 from django_filters.views import FilterView
 from django_tables2 import SingleTableMixin
 
 from labrecords import selectors, selectors_custody, selectors_schedule
-from labrecords.access import lot_for_user, piece_for_user
+from labrecords.access import lot_for_user, piece_for_user, require_role
 from labrecords.filters import LotFilter
 from labrecords.models import Lot
-from labrecords.roles import is_lab_staff
+from labrecords.roles import Role, has_role, is_lab_staff
+from labrecords.services import lots as lot_services
 from labrecords.tables import LotTable
 
 
@@ -42,6 +46,7 @@ def lot_detail(request, pk: int):
             "pieces": selectors.lot_pieces(lot),
             "audit": selectors.audit_trail(lot),
             "promise": selectors_schedule.lot_promise(lot),
+            "can_prioritise": has_role(request.user, Role.ENGINEER, Role.QUALITY_MANAGER),
         },
     )
 
@@ -60,3 +65,25 @@ def piece_detail(request, ident: str):
             if is_lab_staff(request.user) else None,
         },
     )
+
+
+@require_POST
+@login_required
+def lot_priority(request, pk: int):
+    """Mark a lot as a rush (or back to normal); the promised dates follow."""
+    lot = lot_for_user(request.user, pk)
+    if not is_lab_staff(request.user):
+        raise Http404
+    require_role(request.user, Role.ENGINEER, Role.QUALITY_MANAGER)
+    try:
+        priority = int(request.POST.get("priority", ""))
+        lot_services.lot_priority_set(actor=request.user, lot=lot, priority=priority,
+                                      reason=request.POST.get("reason", ""))
+    except ValueError:
+        messages.error(request, "Priority: enter a whole number, 0 for normal.")
+    except ValidationError as exc:
+        for field, errors in exc.message_dict.items():
+            messages.error(request, f"{field}: {' '.join(errors)}")
+    else:
+        messages.success(request, f"Lot {lot.number} priority set to {priority}.")
+    return redirect(lot.get_absolute_url())

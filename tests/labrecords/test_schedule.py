@@ -10,14 +10,16 @@ import datetime
 
 import pytest
 from django.core.cache import cache
+from django.core.exceptions import PermissionDenied, ValidationError
 from django.utils import timezone
 
 from durability.scheduling import SolverOptions
 from labrecords import clock
-from labrecords.models import StepResult
+from labrecords.models import AuditEntry, StepResult
 from labrecords.selectors_chambers import condition_of
 from labrecords.selectors_schedule import covers, promised_dates, schedule_inputs
 from labrecords.services import chambers as chamber_services
+from labrecords.services import lots as lot_services
 from labrecords.services import resources as resource_services
 from labrecords.services import scheduling
 from labrecords.services.scheduling import lab_schedule
@@ -326,3 +328,31 @@ def test_input_the_scheduler_refuses_is_reported_not_raised(lab):
     result = scheduling.compute(bad, OPTIONS)
     assert result.error is not None and "unknown kind 'nope'" in result.error
     assert result.steps == () and result.lots == ()
+
+
+def test_a_rush_lot_is_promised_no_later_than_before_and_the_change_is_audited(lab, cast):
+    # Six lots due today compete for one humidity chamber of four places, so every lot is
+    # late and the order matters; the rush lot's lateness weighs more (common practice).
+    plans = [plan_with_due("MIL-C-48497A", datetime.date(2026, 11, 2)) for _ in range(6)]
+    before = lab_schedule(now=MONDAY, options=OPTIONS)
+    old = {r.lot_id: r.promised for r in before.lots}
+    latest = max(plans, key=lambda p: old[p.lot_id])
+    with clock.frozen_at(MONDAY):
+        lot_services.lot_priority_set(actor=cast.engineer, lot=latest.lot, priority=2,
+                                      reason="customer line down")
+    after = lab_schedule(now=MONDAY, options=OPTIONS)
+    new = {r.lot_id: r.promised for r in after.lots}
+    assert new[latest.lot_id] < old[latest.lot_id]
+    assert AuditEntry.objects.filter(model="labrecords.Lot", object_pk=str(latest.lot_id),
+                                     reason="customer line down").exists()
+
+
+def test_setting_a_priority_needs_a_reason_and_the_engineer_role(lab, cast):
+    plan = plan_with_due("MIL-C-48497A", datetime.date(2026, 11, 6))
+    with pytest.raises(PermissionDenied):
+        lot_services.lot_priority_set(actor=cast.technician, lot=plan.lot, priority=1,
+                                      reason="x")
+    with pytest.raises(ValidationError, match="why"):
+        lot_services.lot_priority_set(actor=cast.engineer, lot=plan.lot, priority=1, reason="")
+    plan.lot.refresh_from_db()
+    assert plan.lot.priority == 0
