@@ -20,6 +20,7 @@ from __future__ import annotations
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 
+from django.core.exceptions import ImproperlyConfigured
 from django.db import DEFAULT_DB_ALIAS, connections
 from django.db.migrations.operations.special import RunPython
 
@@ -72,7 +73,9 @@ def create_sql(vendor: str, table: str) -> list[str]:
         return _pg_sql(table)
     if vendor == "sqlite":
         return _sqlite_sql(table)
-    raise NotImplementedError(f"No append-only triggers written for the {vendor} database.")
+    raise ImproperlyConfigured(
+        f"Records need append-only triggers; they exist for SQLite and PostgreSQL, not {vendor}."
+    )
 
 
 def protect_tables(*tables: str) -> RunPython:
@@ -192,7 +195,9 @@ def _plan_sql(vendor: str) -> list[str]:
             ]
         return statements
     if vendor != "sqlite":
-        raise NotImplementedError(f"No plan triggers written for the {vendor} database.")
+        raise ImproperlyConfigured(
+            f"Released plans need triggers; they exist for SQLite and PostgreSQL, not {vendor}."
+        )
     message = "belongs to a released test plan: {op} refused (make a new plan revision)"
     for op in ("UPDATE", "DELETE"):
         statements.append(
