@@ -121,3 +121,11 @@ def chamber_instruments():
 
 def local(moment: datetime.datetime) -> datetime.datetime:
     return timezone.localtime(moment)
+
+
+# The humidity sample log (fixtures/instrument-files/logger) runs 2025-06-10 08:00 to
+# 2025-06-11 09:50 Berlin summer time; the chamber tests load, unload and check around it.
+HUMIDITY_LOG = (LOGGER / "humidity-24h-gap-excursion.csv").read_bytes()
+LOADED = berlin(2025, 6, 10, 8, 0)
+UNLOADED = berlin(2025, 6, 11, 9, 50)
+NOW = berlin(2025, 6, 12, 9, 0)

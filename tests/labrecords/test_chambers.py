@@ -23,7 +23,11 @@ from labrecords.selectors_chambers import (
 from labrecords.services import chambers
 from labrecords.services.evidence import stored_name
 from tests.labrecords.evidence_helpers import (
+    HUMIDITY_LOG,
+    LOADED,
     LOGGER,
+    NOW,
+    UNLOADED,
     berlin,
     chamber_instruments,
     finish_until,
@@ -33,11 +37,6 @@ from tests.labrecords.evidence_helpers import (
 
 pytestmark = pytest.mark.django_db
 
-HUMIDITY_LOG = (LOGGER / "humidity-24h-gap-excursion.csv").read_bytes()
-# The sample log runs 2025-06-10 08:00 to 2025-06-11 09:50 Berlin summer time.
-LOADED = berlin(2025, 6, 10, 8, 0)
-UNLOADED = berlin(2025, 6, 11, 9, 50)
-NOW = berlin(2025, 6, 12, 9, 0)
 
 
 @pytest.fixture(autouse=True)

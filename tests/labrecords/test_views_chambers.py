@@ -10,7 +10,10 @@ from labrecords.models import ChamberRun, ChamberRunPiece, Evidence, ExposureChe
 from labrecords.selectors_chambers import condition_of
 from labrecords.services import chambers
 from tests.labrecords.evidence_helpers import (
-    LOGGER,
+    HUMIDITY_LOG,
+    LOADED,
+    NOW,
+    UNLOADED,
     berlin,
     chamber_instruments,
     finish_until,
@@ -20,10 +23,6 @@ from tests.labrecords.evidence_helpers import (
 
 pytestmark = pytest.mark.django_db
 
-HUMIDITY_LOG = (LOGGER / "humidity-24h-gap-excursion.csv").read_bytes()
-LOADED = berlin(2025, 6, 10, 8, 0)
-UNLOADED = berlin(2025, 6, 11, 9, 50)
-NOW = berlin(2025, 6, 12, 9, 0)
 
 
 @pytest.fixture(autouse=True)
